@@ -1,0 +1,13 @@
+"""Sub-commands of ``plumebook``, one module per area; each handler parses, calls one function, prints."""
+
+from __future__ import annotations
+
+import argparse
+
+from fieldapp.commands import records_cmds, rules_cmds
+
+
+def register(sub: argparse._SubParsersAction) -> None:
+    """Add every sub-command to the parser."""
+    for module in (records_cmds, rules_cmds):
+        module.register(sub)

@@ -1,0 +1,168 @@
+"""Commands over records: init, demo, sites, surveys, leaks, history, import."""
+
+from __future__ import annotations
+
+import argparse
+import os
+from pathlib import Path
+
+from fieldapp.cli import emit_json, emit_table, open_store
+
+
+def register(sub: argparse._SubParsersAction) -> None:
+    """Add the record commands."""
+    p = sub.add_parser("init", help="create an empty store")
+    p.set_defaults(handler=cmd_init)
+
+    p = sub.add_parser("demo", help="load the invented demo scenario and write its outputs")
+    p.add_argument("--reset", action="store_true", help="delete the store file first")
+    p.add_argument("--no-app", action="store_true", help="never open the tablet app")
+    p.set_defaults(handler=cmd_demo)
+
+    p = sub.add_parser("sites", help="list sites")
+    p.add_argument("--json", action="store_true")
+    p.set_defaults(handler=cmd_sites)
+
+    p = sub.add_parser("surveys", help="list surveys")
+    p.add_argument("--site", help="site id or name")
+    p.add_argument("--json", action="store_true")
+    p.set_defaults(handler=cmd_surveys)
+
+    p = sub.add_parser("leaks", help="list leaks with their derived state")
+    p.add_argument("--site", help="site id or name")
+    p.add_argument("--open", action="store_true", help="only leaks not closed or void")
+    p.add_argument("--json", action="store_true")
+    p.set_defaults(handler=cmd_leaks)
+
+    p = sub.add_parser("history", help="journal of one record, oldest first")
+    p.add_argument("record_id")
+    p.add_argument("--json", action="store_true")
+    p.set_defaults(handler=cmd_history)
+
+    p = sub.add_parser("import", help="bulk import")
+    what = p.add_subparsers(dest="what", required=True, metavar="WHAT")
+    c = what.add_parser("components", help="components CSV (see DEVELOPERS.md for the columns)")
+    c.add_argument("file", type=Path)
+    c.add_argument("--site", required=True, help="site id or name")
+    c.set_defaults(handler=cmd_import_components)
+
+
+def cmd_init(args: argparse.Namespace) -> int:
+    store = open_store(args)
+    print(f"store ready: {store.path} (device {store.device_id})")
+    return 0
+
+
+def _remove_store(path: Path) -> None:
+    for suffix in ("", "-wal", "-shm"):
+        Path(f"{path}{suffix}").unlink(missing_ok=True)
+
+
+def has_display() -> bool:
+    """True when a graphical display is reachable."""
+    return bool(os.environ.get("DISPLAY") or os.environ.get("WAYLAND_DISPLAY"))
+
+
+def cmd_demo(args: argparse.Namespace) -> int:
+    from fieldapp import demo
+
+    if args.reset:
+        _remove_store(args.db)
+    store = open_store(args)
+    counts = demo.load(store)
+    print(f"demo loaded into {store.path}: " + ", ".join(f"{v} {k}" for k, v in counts.items()))
+    out = demo_outputs(store)
+    print(f"demo outputs written to {out}/")
+    for path in sorted(out.iterdir()):
+        print(f"  {path.name}")
+    if args.no_app:
+        return 0
+    if not has_display():
+        print("no display found: not opening the tablet app (run `plumebook app` on a machine with a screen)")
+        return 0
+    try:
+        from fieldapp.ui.app import run_app
+    except ImportError:
+        print("the tablet app is not available in this build")
+        return 0
+    return run_app(store.path)
+
+
+def demo_outputs(store) -> Path:
+    """Write the demo's outputs beside the store and return the folder."""
+    from fieldapp.outputs import write_demo_outputs
+
+    return write_demo_outputs(store, store.path.parent / "plumebook-demo-output")
+
+
+def cmd_sites(args: argparse.Namespace) -> int:
+    from fieldapp.store.reads import list_sites
+
+    rows = list_sites(open_store(args))
+    if args.json:
+        emit_json(rows)
+    else:
+        emit_table(rows, ("name", "kind", "program_id", "timezone", "id"))
+    return 0
+
+
+def _site_id(store, key: str | None) -> str | None:
+    from fieldapp.store.reads import resolve_site
+
+    return resolve_site(store, key)["id"] if key else None
+
+
+def cmd_surveys(args: argparse.Namespace) -> int:
+    from fieldapp.store.reads import list_surveys
+
+    store = open_store(args)
+    rows = list_surveys(store, _site_id(store, args.site))
+    if args.json:
+        emit_json(rows)
+    else:
+        emit_table(rows, ("started_at", "site_name", "method", "operator", "camera_check", "leak_count", "id"))
+    return 0
+
+
+def cmd_leaks(args: argparse.Namespace) -> int:
+    from fieldapp.store.reads import list_leaks
+
+    store = open_store(args)
+    rows = list_leaks(store, _site_id(store, args.site), open_only=args.open)
+    if args.json:
+        emit_json(rows)
+    else:
+        for r in rows:
+            r["repeat"] = "REPEAT LEAKER" if r["repeat_leaker"] else ""
+            r["hazard!"] = "HAZARD" if r["hazard"] else ""
+        emit_table(rows, ("detected_on", "site_name", "tag", "component_type", "state", "repeat", "hazard!",
+                          "id"))
+    return 0
+
+
+def cmd_history(args: argparse.Namespace) -> int:
+    from fieldapp.store.history import history
+
+    entries = history(open_store(args), args.record_id)
+    if args.json:
+        emit_json(entries)
+        return 0
+    for e in entries:
+        changed = ""
+        if e["op"] == "update":
+            changed = ", ".join(f"{k}: {e['old'].get(k)!r} -> {v!r}" for k, v in e["new"].items()
+                                if e["old"].get(k) != v)
+        print(f"{e['at']}  {e['op']:<6}  {e['tbl']:<10}  by {e['actor'] or '?'} on device "
+              f"{e['device_id'][:8]} #{e['seq']}  {changed}")
+    return 0
+
+
+def cmd_import_components(args: argparse.Namespace) -> int:
+    from fieldapp.store.importer import import_components
+    from fieldapp.store.reads import resolve_site
+
+    store = open_store(args)
+    site = resolve_site(store, args.site)
+    count = import_components(store, args.file, site["id"], args.actor)
+    print(f"imported {count} components into {site['name']}")
+    return 0

@@ -1,0 +1,314 @@
+"""Programs: the rule values of one LDAR program, parsed from a plain mapping (a loaded TOML file).
+
+Every value carries the citation of the rule it summarises and a status: ``text`` (read in the
+published rule), ``memory`` (recalled, not checked against the current text), ``summary`` (from a
+secondary source) or ``company`` (a company's own choice). Parsing returns problems that name the
+key, never raises halfway.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Mapping
+from dataclasses import dataclass
+from typing import Any
+
+from fieldapp.core.enums import SiteKind, SurveyMethod, allowed
+from fieldapp.core.fields import FieldProblem
+
+STATUSES = ("text", "memory", "summary", "company")
+UNITS = ("calendar_days", "business_days", "months", "years")
+DEADLINE_KINDS = ("first_attempt", "final_repair", "resurvey", "re_repair")
+DEADLINE_STARTS = ("detection", "first_attempt", "repair", "resurvey_failed")
+PERIODS = ("month", "bimonth", "quarter", "half", "year")
+
+
+@dataclass(frozen=True, slots=True)
+class Span:
+    """A length of time: an amount of calendar days, business days, months or years."""
+
+    amount: int
+    unit: str
+
+    def describe(self) -> str:
+        """Human text, e.g. '30 calendar days'."""
+        unit = self.unit.replace("_", " ")
+        return f"{self.amount} {unit[:-1] if self.amount == 1 else unit}"
+
+
+@dataclass(frozen=True, slots=True)
+class DeadlineRule:
+    """A deadline: ``span`` after the event ``start``, with its citation."""
+
+    kind: str
+    span: Span
+    start: str
+    citation: str
+    status: str
+    note: str = ""
+
+    def describe(self) -> str:
+        """Human text, e.g. 'first attempt within 30 calendar days of detection'."""
+        return f"{self.kind.replace('_', ' ')} within {self.span.describe()} of {self.start.replace('_', ' ')}"
+
+
+@dataclass(frozen=True, slots=True)
+class RepairTier:
+    """The repair deadlines for leaks at or above a screening value (``min_ppm`` None = any leak)."""
+
+    label: str
+    min_ppm: float | None
+    rules: Mapping[str, DeadlineRule]
+
+
+@dataclass(frozen=True, slots=True)
+class Inspection:
+    """How often one kind of site must be inspected with one method."""
+
+    site_kinds: tuple[SiteKind, ...]
+    method: SurveyMethod
+    frequency: str
+    period: str | None
+    min_spacing: Span | None
+    max_spacing: Span | None
+    citation: str
+    status: str
+    relax_after_clean: int = 0
+    relaxed_period: str | None = None
+    note: str = ""
+    alternatives: tuple[SurveyMethod, ...] = ()
+
+    def satisfied_by(self) -> tuple[SurveyMethod, ...]:
+        """Survey methods that count for this inspection (its own and its alternatives)."""
+        return (self.method, *self.alternatives)
+
+
+@dataclass(frozen=True, slots=True)
+class DelayRule:
+    """How long a leak may stay on delay of repair."""
+
+    cap: Span | None
+    until_shutdown: bool
+    reasons: tuple[str, ...]
+    citation: str
+    status: str
+
+
+@dataclass(frozen=True, slots=True)
+class CitedValue:
+    """A single rule value with its citation."""
+
+    value: Any
+    citation: str
+    status: str
+
+
+@dataclass(frozen=True, slots=True)
+class Program:
+    """A complete program file."""
+
+    id: str
+    title: str
+    jurisdiction: str
+    rule: str
+    notice: str
+    initial_survey: DeadlineRule | None
+    inspections: tuple[Inspection, ...]
+    repair_tiers: tuple[RepairTier, ...]
+    delay: DelayRule | None
+    leak_definition: Mapping[str, CitedValue]
+    required_survey_fields: tuple[str, ...]
+    survey_limits: Mapping[str, CitedValue]
+    holiday_country: str | None = None
+    holiday_subdivision: str | None = None
+
+    def inspections_for(self, kind: SiteKind) -> list[Inspection]:
+        """The inspections that apply to a site kind."""
+        return [i for i in self.inspections if kind in i.site_kinds]
+
+    def tier_for(self, screening_ppm: float | None) -> RepairTier:
+        """The repair tier of a leak with this screening value (highest threshold that it reaches)."""
+        for tier in sorted(self.repair_tiers, key=lambda t: -(t.min_ppm or 0)):
+            if tier.min_ppm is None or (screening_ppm is not None and screening_ppm >= tier.min_ppm):
+                return tier
+        return self.repair_tiers[-1]
+
+
+class _Reader:
+    """Collects problems while reading nested keys; each problem names the full key path."""
+
+    def __init__(self) -> None:
+        self.problems: list[FieldProblem] = []
+
+    def fail(self, key: str, message: str) -> None:
+        self.problems.append(FieldProblem(key, message))
+
+    def get(self, data: Mapping, key: str, path: str, kind: type | tuple, required: bool = True) -> Any:
+        if key not in data:
+            if required:
+                self.fail(f"{path}{key}", "is required")
+            return None
+        value = data[key]
+        if isinstance(value, bool) and kind is not bool:
+            self.fail(f"{path}{key}", f"must be {getattr(kind, '__name__', kind)}, got true/false")
+            return None
+        if not isinstance(value, kind):
+            names = kind.__name__ if isinstance(kind, type) else " or ".join(k.__name__ for k in kind)
+            self.fail(f"{path}{key}", f"must be {names}, got {type(value).__name__}")
+            return None
+        return value
+
+    def choice(self, data: Mapping, key: str, path: str, options: tuple[str, ...], required: bool = True):
+        value = self.get(data, key, path, str, required)
+        if value is not None and value not in options:
+            self.fail(f"{path}{key}", f"{value!r} is not allowed; allowed: {', '.join(options)}")
+            return None
+        return value
+
+    def cited(self, data: Mapping, path: str) -> tuple[str, str]:
+        citation = self.get(data, "citation", path, str) or ""
+        status = self.choice(data, "status", path, STATUSES) or ""
+        return citation, status
+
+    def span(self, data: Mapping, key: str, path: str, required: bool = True) -> Span | None:
+        value = self.get(data, key, path, dict, required)
+        if value is None:
+            return None
+        amount = self.get(value, "amount", f"{path}{key}.", int)
+        unit = self.choice(value, "unit", f"{path}{key}.", UNITS)
+        if amount is not None and amount < 0:
+            self.fail(f"{path}{key}.amount", "must be 0 or more")
+        if amount is None or unit is None or amount < 0:
+            return None
+        return Span(amount, unit)
+
+    def deadline(self, data: Mapping, kind: str, path: str, starts: tuple[str, ...]) -> DeadlineRule | None:
+        span = self.span(data, "within", path)
+        start = self.choice(data, "from", path, starts)
+        citation, status = self.cited(data, path)
+        note = self.get(data, "note", path, str, False) or ""
+        if span is None or start is None:
+            return None
+        return DeadlineRule(kind, span, start, citation, status, note)
+
+
+def _inspection(r: _Reader, data: Mapping, path: str) -> Inspection | None:
+    kinds = r.get(data, "site_kinds", path, list) or []
+    site_kinds = []
+    for i, k in enumerate(kinds):
+        try:
+            site_kinds.append(SiteKind(k))
+        except ValueError:
+            r.fail(f"{path}site_kinds[{i}]", f"{k!r} is not allowed; allowed: {allowed(SiteKind)}")
+    methods = tuple(m.value for m in SurveyMethod)
+    method = r.choice(data, "method", path, methods)
+    alternatives = []
+    for i, alt in enumerate(r.get(data, "alternatives", path, list, False) or []):
+        if alt not in methods:
+            r.fail(f"{path}alternatives[{i}]", f"{alt!r} is not allowed; allowed: {', '.join(methods)}")
+        else:
+            alternatives.append(SurveyMethod(alt))
+    frequency = r.get(data, "frequency", path, str) or ""
+    period = r.choice(data, "period", path, PERIODS, required=False)
+    min_spacing = r.span(data, "min_spacing", path, required=False)
+    max_spacing = r.span(data, "max_spacing", path, required=False)
+    if period is None and max_spacing is None:
+        r.fail(f"{path}period", "a period or a max_spacing is required to compute a window")
+    relax = r.get(data, "relax_after_clean", path, int, False) or 0
+    relaxed = r.choice(data, "relaxed_period", path, PERIODS, required=False)
+    if relax and not relaxed:
+        r.fail(f"{path}relaxed_period", "is required when relax_after_clean is set")
+    citation, status = r.cited(data, path)
+    note = r.get(data, "note", path, str, False) or ""
+    if method is None or not site_kinds:
+        return None
+    return Inspection(tuple(site_kinds), SurveyMethod(method), frequency, period, min_spacing, max_spacing,
+                      citation, status, relax, relaxed, note, tuple(alternatives))
+
+
+def _tier(r: _Reader, data: Mapping, path: str) -> RepairTier | None:
+    label = r.get(data, "label", path, str) or ""
+    min_ppm = r.get(data, "min_ppm", path, (int, float), False)
+    rules: dict[str, DeadlineRule] = {}
+    for kind in DEADLINE_KINDS:
+        if kind in data:
+            sub = r.get(data, kind, path, dict)
+            if sub is not None:
+                rule = r.deadline(sub, kind, f"{path}{kind}.", DEADLINE_STARTS)
+                if rule:
+                    rules[kind] = rule
+    for kind in ("first_attempt", "final_repair"):
+        if kind not in data:
+            r.fail(f"{path}{kind}", "is required")
+    return RepairTier(label, None if min_ppm is None else float(min_ppm), rules)
+
+
+def _cited_values(r: _Reader, data: Mapping, path: str) -> dict[str, CitedValue]:
+    result = {}
+    for key, entry in data.items():
+        if not isinstance(entry, dict):
+            r.fail(f"{path}{key}", "must be a table with value, citation and status")
+            continue
+        if "value" not in entry:
+            r.fail(f"{path}{key}.value", "is required")
+            continue
+        citation, status = r.cited(entry, f"{path}{key}.")
+        result[key] = CitedValue(entry["value"], citation, status)
+    return result
+
+
+def parse_program(data: Mapping[str, Any]) -> tuple[Program | None, list[FieldProblem]]:
+    """Read a program from a plain mapping; returns (program, []) or (None, problems naming keys)."""
+    r = _Reader()
+    head = {k: r.get(data, k, "", str) for k in ("id", "title", "jurisdiction", "rule", "notice")}
+    initial = None
+    if "initial_survey" in data:
+        sub = r.get(data, "initial_survey", "", dict)
+        if sub is not None:
+            initial = r.deadline(sub, "initial_survey", "initial_survey.", ("startup",))
+    inspections = []
+    for i, sub in enumerate(r.get(data, "inspections", "", list) or []):
+        if not isinstance(sub, dict):
+            r.fail(f"inspections[{i}]", "must be a table")
+            continue
+        found = _inspection(r, sub, f"inspections[{i}].")
+        if found:
+            inspections.append(found)
+    tiers = []
+    for i, sub in enumerate(r.get(data, "repair_tiers", "", list) or []):
+        if not isinstance(sub, dict):
+            r.fail(f"repair_tiers[{i}]", "must be a table")
+            continue
+        found = _tier(r, sub, f"repair_tiers[{i}].")
+        if found:
+            tiers.append(found)
+    if "repair_tiers" in data and not tiers and not r.problems:
+        r.fail("repair_tiers", "at least one tier is required")
+    if tiers and all(t.min_ppm is not None for t in tiers):
+        r.fail("repair_tiers", "one tier must have no min_ppm (it applies to every other leak)")
+    delay = None
+    if "delay_of_repair" in data:
+        sub = r.get(data, "delay_of_repair", "", dict)
+        if sub is not None:
+            cap = r.span(sub, "cap", "delay_of_repair.", required=False)
+            until = r.get(sub, "until_shutdown", "delay_of_repair.", bool)
+            reasons = tuple(r.get(sub, "reasons", "delay_of_repair.", list, False) or ())
+            citation, status = r.cited(sub, "delay_of_repair.")
+            if cap is None and not until:
+                r.fail("delay_of_repair.cap", "a cap or until_shutdown = true is required")
+            delay = DelayRule(cap, bool(until), reasons, citation, status)
+    leak_def = _cited_values(r, r.get(data, "leak_definition", "", dict) or {}, "leak_definition.")
+    records = r.get(data, "survey_records", "", dict, False) or {}
+    required_fields = tuple(r.get(records, "required", "survey_records.", list, False) or ())
+    limits = _cited_values(r, r.get(data, "survey_limits", "", dict, False) or {}, "survey_limits.")
+    holidays = r.get(data, "business_days", "", dict, False) or {}
+    country = r.get(holidays, "country", "business_days.", str, False) if holidays else None
+    subdivision = r.get(holidays, "subdivision", "business_days.", str, False) if holidays else None
+    if r.problems:
+        return None, r.problems
+    return Program(
+        id=head["id"], title=head["title"], jurisdiction=head["jurisdiction"], rule=head["rule"],
+        notice=head["notice"], initial_survey=initial, inspections=tuple(inspections),
+        repair_tiers=tuple(tiers), delay=delay, leak_definition=leak_def,
+        required_survey_fields=required_fields, survey_limits=limits,
+        holiday_country=country, holiday_subdivision=subdivision,
+    ), []

@@ -1,0 +1,88 @@
+"""The due list over a whole store with set-based queries.
+
+Closed and void leaks are dropped in SQL through the partial index on terminal actions, so only
+leaks that can still be due are read; their actions come in one joined query and the deadlines are
+computed by the core (one state machine for every caller).
+"""
+
+from __future__ import annotations
+
+from collections import defaultdict
+from datetime import date
+from typing import Any
+
+from fieldapp import catalog
+from fieldapp.core import due as due_core
+from fieldapp.core.enums import SiteKind, SurveyMethod
+from fieldapp.core.lifecycle import outstanding
+from fieldapp.core.windows import PastSurvey, WindowError, next_window
+from fieldapp.store.base import Store
+from fieldapp.store.reads import facts_for, local_day, repeat_leakers
+
+OPEN_LEAKS = (
+    "FROM leaks l JOIN surveys v ON v.id = l.survey_id JOIN sites s ON s.id = v.site_id "
+    "WHERE l.deleted = 0 AND s.deleted = 0 AND NOT EXISTS (SELECT 1 FROM actions t WHERE t.leak_id = l.id "
+    "AND t.kind IN ('resurvey_passed', 'voided')) {site}"
+)
+
+
+def leak_items(store: Store, site_id: str | None = None) -> list[due_core.DueItem]:
+    """Outstanding deadlines of every leak that is not closed or void."""
+    site = "AND s.id = ?" if site_id else ""
+    params = (site_id,) if site_id else ()
+    base = OPEN_LEAKS.format(site=site)
+    leaks = store.rows(
+        "SELECT l.id, l.detected_at, l.screening_ppm, l.component_id, s.id AS site_id, s.name AS site_name, "
+        "s.timezone, s.program_id, c.tag, c.type AS component_type "
+        + base.replace("FROM leaks l", "FROM leaks l JOIN components c ON c.id = l.component_id"), params)
+    actions = store.rows(
+        "SELECT a.leak_id, a.id, a.kind, a.done_on, a.seq, a.reason, a.planned_on, a.shutdown_on "
+        "FROM actions a WHERE a.leak_id IN (SELECT l.id " + base + ")", params)
+    facts = facts_for(leaks, actions)
+    repeats = repeat_leakers(store, site_id)
+    items = []
+    for leak in leaks:
+        program = catalog.program(leak["program_id"])
+        holidays = catalog.holidays_for(program)
+        for deadline in outstanding(program, facts[leak["id"]], holidays):
+            items.append(due_core.from_deadline(leak["site_id"], leak["site_name"], deadline, leak["id"],
+                                                leak["tag"], leak["component_type"],
+                                                leak["component_id"] in repeats))
+    return items
+
+
+def survey_items(store: Store, site_id: str | None = None) -> tuple[list[due_core.DueItem], list[str]]:
+    """The next survey window of every inspection of every site, and problems computing them."""
+    where = "AND s.id = ?" if site_id else ""
+    params = (site_id,) if site_id else ()
+    sites = store.rows(f"SELECT * FROM sites s WHERE s.deleted = 0 {where}", params)
+    surveys = store.rows(
+        "SELECT v.site_id, v.method, v.started_at, s.timezone, (SELECT COUNT(*) FROM leaks l "
+        "WHERE l.survey_id = v.id AND l.deleted = 0) AS leaks_found FROM surveys v "
+        f"JOIN sites s ON s.id = v.site_id WHERE v.deleted = 0 {where}", params)
+    by_site: dict[tuple[str, str], list[PastSurvey]] = defaultdict(list)
+    zones: dict[str, Any] = {}
+    for row in surveys:
+        on = local_day(row["started_at"], row["timezone"], zones)
+        by_site[(row["site_id"], row["method"])].append(PastSurvey(on, row["leaks_found"]))
+    items, problems = [], []
+    for site in sites:
+        program = catalog.program(site["program_id"])
+        kind = SiteKind(site["kind"])
+        startup = date.fromisoformat(site["startup_date"]) if site["startup_date"] else None
+        for insp in program.inspections_for(kind):
+            past = [p for m in insp.satisfied_by() for p in by_site.get((site["id"], m.value), [])]
+            try:
+                window = next_window(program, kind, SurveyMethod(insp.method), past, startup)
+            except WindowError as exc:
+                problems.append(f"{site['name']}: {exc}")
+                continue
+            items.append(due_core.from_window(site["id"], site["name"], window))
+    return items, problems
+
+
+def due_list(store: Store, as_of: date, site_id: str | None = None, within_days: int | None = None
+             ) -> tuple[list[due_core.DueItem], list[str]]:
+    """Every due item as of a date, overdue first, and any site whose windows could not be computed."""
+    windows, problems = survey_items(store, site_id)
+    return due_core.select([*windows, *leak_items(store, site_id)], as_of, within_days), problems

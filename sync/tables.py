@@ -1,0 +1,45 @@
+"""Plain tables (lists of dicts with a fixed column order) shared by CSV output and reports."""
+
+from __future__ import annotations
+
+import csv
+import io
+from collections.abc import Iterable, Sequence
+from datetime import date
+from typing import Any
+
+from fieldapp.core.due import DueItem
+
+DUE_COLUMNS = ("standing", "kind", "due", "days_left", "earliest", "site", "site_id", "method", "tag",
+               "component_type", "leak_id", "repeat_leaker", "rule", "citation", "status", "note")
+
+
+def standing(item: DueItem, as_of: date) -> str:
+    """'overdue', 'open' (window open now), or 'due'."""
+    if item.overdue(as_of):
+        return "overdue"
+    if item.earliest is not None and item.earliest <= as_of:
+        return "open"
+    return "due"
+
+
+def due_rows(items: Iterable[DueItem], as_of: date) -> list[dict[str, Any]]:
+    """Due items as rows in DUE_COLUMNS order."""
+    return [{
+        "standing": standing(i, as_of), "kind": i.kind, "due": i.due.isoformat() if i.due else "",
+        "days_left": i.days_left(as_of), "earliest": i.earliest.isoformat() if i.earliest else "",
+        "site": i.site_name, "site_id": i.site_id, "method": i.method, "tag": i.tag,
+        "component_type": i.component_type, "leak_id": i.leak_id, "repeat_leaker": i.repeat_leaker,
+        "rule": i.rule, "citation": i.citation, "status": i.status, "note": i.note,
+    } for i in items]
+
+
+def to_csv(rows: Iterable[dict[str, Any]], columns: Sequence[str]) -> str:
+    """CSV text with a header row, in the given column order (booleans as true/false)."""
+    out = io.StringIO()
+    writer = csv.writer(out, lineterminator="\n")
+    writer.writerow(columns)
+    for row in rows:
+        writer.writerow(["true" if row[c] is True else "false" if row[c] is False else
+                         "" if row[c] is None else row[c] for c in columns])
+    return out.getvalue()
