@@ -49,8 +49,15 @@ def read_program_file(path: Path) -> Program:
     return program
 
 
-@functools.cache
-def _programs(user_dir: str) -> dict[str, tuple[Program, str]]:
+def _signature(folder: Path) -> tuple:
+    """Names, sizes and change times of a folder's program files, so edits are seen without a restart."""
+    if not folder.is_dir():
+        return ()
+    return tuple((p.name, p.stat().st_mtime_ns, p.stat().st_size) for p in sorted(folder.glob("*.toml")))
+
+
+@functools.lru_cache(maxsize=8)
+def _programs(user_dir: str, _signature: tuple) -> dict[str, tuple[Program, str]]:
     found: dict[str, tuple[Program, str]] = {}
     for origin, folder in (("shipped", SHIPPED_PROGRAMS), ("user", Path(user_dir))):
         if not folder.is_dir():
@@ -66,7 +73,8 @@ def _programs(user_dir: str) -> dict[str, tuple[Program, str]]:
 
 def programs() -> dict[str, tuple[Program, str]]:
     """Every program by id, with where it came from ('shipped' or 'user')."""
-    return _programs(str(user_programs_dir()))
+    folder = user_programs_dir()
+    return _programs(str(folder), _signature(folder))
 
 
 def program(program_id: str) -> Program:
