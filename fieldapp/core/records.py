@@ -139,7 +139,7 @@ class PhotoRef:
     sha256: str = _spec(f.text(64), True)
     media_kind: str = _spec(f.text(8), True, doc="photo or video")
     original_name: str = _spec(f.text(255), False, "")
-    byte_size: float = _spec(f.number(0, None), True)
+    byte_size: int = _spec(f.number(0, None), True)
 
 
 R = TypeVar("R")
@@ -154,33 +154,49 @@ RECORD_TYPES: dict[str, type] = {
 }
 
 
+_SPECS: dict[type, tuple[tuple[str, f.Parser, bool], ...]] = {}
+
+
+def _specs(cls: type) -> tuple[tuple[str, f.Parser, bool], ...]:
+    """(name, parser, required) of each field, computed once per record type."""
+    specs = _SPECS.get(cls)
+    if specs is None:
+        specs = tuple((fl.name, fl.metadata["parse"], fl.metadata["required"]) for fl in dataclasses.fields(cls))
+        _SPECS[cls] = specs
+    return specs
+
+
 def field_names(cls: type) -> list[str]:
     """Field names of a record type, in declaration order."""
-    return [fl.name for fl in dataclasses.fields(cls)]
+    return [name for name, _parse, _required in _specs(cls)]
+
+
+INTEGER_FIELDS = frozenset({"seq", "byte_size"})
 
 
 def parse_record(cls: type[R], values: Mapping[str, Any], line: int | None = None) -> tuple[R | None, list]:
     """Build a record from raw values; returns (record, []) or (None, problems naming each field)."""
     problems: list[f.FieldProblem] = []
-    known = set(field_names(cls))
-    for name in values:
-        if name not in known:
-            problems.append(f.FieldProblem(name, f"unknown field; allowed: {', '.join(sorted(known))}", line))
+    specs = _specs(cls)
+    if len(values.keys() - {name for name, _p, _r in specs}):
+        known = sorted(name for name, _p, _r in specs)
+        for name in values:
+            if name not in known:
+                problems.append(f.FieldProblem(name, f"unknown field; allowed: {', '.join(known)}", line))
     kwargs: dict[str, Any] = {}
-    for fl in dataclasses.fields(cls):
-        raw = values.get(fl.name)
-        if f.is_blank(raw) or (isinstance(raw, (list, tuple)) and not raw and fl.metadata["required"]):
-            if fl.metadata["required"]:
-                problems.append(f.FieldProblem(fl.name, "is required", line))
+    for name, parse, required in specs:
+        raw = values.get(name)
+        if raw is None or raw == "" or (isinstance(raw, str) and not raw.strip()) or (
+                required and isinstance(raw, (list, tuple)) and not raw):
+            if required:
+                problems.append(f.FieldProblem(name, "is required", line))
             continue
         try:
-            value = fl.metadata["parse"](raw)
+            value = parse(raw)
         except f.FieldValueError as exc:
-            problems.append(f.FieldProblem(fl.name, str(exc), line))
+            problems.append(f.FieldProblem(name, str(exc), line))
             continue
-        if fl.name == "seq":
-            value = int(value)
-        kwargs[fl.name] = value
+        kwargs[name] = int(value) if name in INTEGER_FIELDS else value
     if problems:
         return None, problems
     return cls(**kwargs), []
@@ -201,7 +217,7 @@ def plain(value: Any) -> Any:
 
 def as_plain(record: Any) -> dict[str, Any]:
     """A record as a dict of JSON-friendly values, in field order."""
-    return {fl.name: plain(getattr(record, fl.name)) for fl in dataclasses.fields(record)}
+    return {name: plain(getattr(record, name)) for name, _p, _r in _specs(type(record))}
 
 
 def replace(record: R, changes: Mapping[str, Any]) -> tuple[R | None, list]:

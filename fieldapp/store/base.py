@@ -9,9 +9,9 @@ without its old value being kept.
 from __future__ import annotations
 
 import json
+import os
 import sqlite3
 import time
-import uuid
 from collections.abc import Callable, Iterable, Iterator
 from contextlib import contextmanager
 from datetime import UTC, datetime
@@ -19,6 +19,17 @@ from pathlib import Path
 from typing import Any
 
 from sqlite_utils import Database
+
+try:  # orjson encodes journal values several times faster than the standard library
+    import orjson
+
+    def dumps(value: Any) -> str:
+        """Compact JSON text of a journal value."""
+        return orjson.dumps(value).decode()
+except ImportError:  # pragma: no cover - orjson is a declared dependency
+    def dumps(value: Any) -> str:
+        """Compact JSON text of a journal value."""
+        return json.dumps(value, separators=(",", ":"))
 
 from fieldapp.store.clock import HybridClock, Stamp
 from fieldapp.store.schema import migrate
@@ -43,8 +54,29 @@ def from_sql(row: dict[str, Any]) -> dict[str, Any]:
 
 
 def new_id() -> str:
-    """A fresh random UUID in text form."""
-    return str(uuid.uuid4())
+    """A fresh time-ordered UUID (version 7, RFC 9562) in text form.
+
+    Time order keeps B-tree inserts of ids and journal rows near the end of the index, which makes
+    bulk writes several times faster than random version-4 ids; 74 random bits keep ids unique.
+    """
+    return new_ids(1)[0]
+
+
+def new_ids(count: int) -> list[str]:
+    """``count`` fresh, increasing time-ordered UUIDs (version 7).
+
+    One clock reading and one random 74-bit start, then +1 per id (the monotonic-counter method of
+    RFC 9562 §6.2), so a batch sorts in creation order and indexes grow at their end.
+    """
+    millis = (time.time_ns() // 1_000_000) & 0xFFFF_FFFF_FFFF
+    start = int.from_bytes(os.urandom(10), "big") >> 6 >> 20  # 54 random bits, room left to count
+    out = []
+    for i in range(count):
+        rand = start + i
+        value = millis << 80 | 0x7 << 76 | (rand >> 62 & 0xFFF) << 64 | 0b10 << 62 | (rand & 0x3FFF_FFFF_FFFF_FFFF)
+        h = f"{value:032x}"
+        out.append(f"{h[:8]}-{h[8:12]}-{h[12:16]}-{h[16:20]}-{h[20:]}")
+    return out
 
 
 class Store:
@@ -128,15 +160,16 @@ class Store:
         if not self._depth:
             raise RuntimeError("writes must run inside store.transaction()")
 
-    def _journal_rows(self, entries: Iterable[tuple[str, str, str, Any, Any]], actor: str) -> list[tuple]:
+    def _journal_rows(self, entries: list[tuple[str, str, str, Any, Any]], actor: str) -> list[tuple]:
         at = self.now_text()
-        rows = []
-        for tbl, row_id, op, old, new in entries:
-            rows.append((
-                self.device_id, self._next_seq, self.clock.now().text(), at, actor or self.actor, tbl,
-                row_id, op, None if old is None else json.dumps(old), None if new is None else json.dumps(new),
-            ))
-            self._next_seq += 1
+        device, who, seq = self.device_id, actor or self.actor, self._next_seq
+        stamps = self.clock.many(len(entries))
+        rows = [
+            (device, seq + i, stamps[i], at, who, tbl, row_id, op, None if old is None else dumps(old),
+             None if new is None else dumps(new))
+            for i, (tbl, row_id, op, old, new) in enumerate(entries)
+        ]
+        self._next_seq += len(entries)
         return rows
 
     def _write_journal(self, rows: list[tuple]) -> None:
@@ -161,8 +194,12 @@ class Store:
             now = self.now_text()
             rows = [{**r, "recorded_at": now} for r in rows]
         sql = f"INSERT INTO {table} ({', '.join(columns)}) VALUES ({', '.join('?' * len(columns))})"
-        self.conn.executemany(sql, [tuple(to_sql(r)[c] for c in columns) for r in rows])
-        self._write_journal(self._journal_rows(((table, r["id"], "insert", None, r) for r in rows), actor))
+        if LIST_COLUMNS.intersection(columns):
+            values = [tuple(to_sql(r)[c] for c in columns) for r in rows]
+        else:
+            values = [tuple(r[c] for c in columns) for r in rows]
+        self.conn.executemany(sql, values)
+        self._write_journal(self._journal_rows([(table, r["id"], "insert", None, r) for r in rows], actor))
 
     def get(self, table: str, row_id: str, include_deleted: bool = False) -> dict[str, Any]:
         """One record's current plain values; NotFoundError if absent (or deleted)."""

@@ -48,6 +48,16 @@ class HybridClock:
             self.last = Stamp(self.last.millis, self.last.counter + 1, self.device)
         return self.last
 
+    def many(self, count: int) -> list[str]:
+        """``count`` consecutive stamps as text (one wall reading), for bulk writes."""
+        first = self.now()
+        stamps = [first.text()]
+        prefix, device = f"{first.millis:015d}-", self.device
+        stamps += [f"{prefix}{first.counter + i:06d}-{device}" for i in range(1, count)]
+        if count > 1:
+            self.last = Stamp(first.millis, first.counter + count - 1, device)
+        return stamps
+
     def observe(self, other: Stamp) -> None:
         """Move past a stamp received from another device."""
         if (other.millis, other.counter) > (self.last.millis, self.last.counter):

@@ -41,8 +41,9 @@ def leak_items(store: Store, site_id: str | None = None) -> list[due_core.DueIte
     facts = facts_for(leaks, actions)
     repeats = repeat_leakers(store, site_id)
     items = []
+    programs = {pid: catalog.program(pid) for pid in {leak["program_id"] for leak in leaks}}
     for leak in leaks:
-        program = catalog.program(leak["program_id"])
+        program = programs[leak["program_id"]]
         holidays = catalog.holidays_for(program)
         for deadline in outstanding(program, facts[leak["id"]], holidays):
             items.append(due_core.from_deadline(leak["site_id"], leak["site_name"], deadline, leak["id"],
