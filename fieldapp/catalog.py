@@ -7,6 +7,7 @@ file with the same id as a shipped one is refused, so a copy must get its own id
 
 from __future__ import annotations
 
+import csv
 import functools
 import os
 import tomllib
@@ -14,12 +15,14 @@ from datetime import date
 from pathlib import Path
 
 from fieldapp.core.dates import HolidayTest, no_holidays
+from fieldapp.core.factors import FactorBook, build_book
 from fieldapp.core.fields import FieldProblem, ValidationError
 from fieldapp.core.program import Program, parse_program
 from fieldapp.core.records import Survey, field_names
 
 DATA_DIR = Path(__file__).parent / "data"
 SHIPPED_PROGRAMS = DATA_DIR / "programs"
+SHIPPED_FACTORS = DATA_DIR / "factors"
 
 
 def user_programs_dir() -> Path:
@@ -104,3 +107,38 @@ def holiday_test(country: str | None, subdivision: str | None) -> HolidayTest:
 def holidays_for(prog: Program) -> HolidayTest:
     """The business-day holiday test of a program."""
     return holiday_test(prog.holiday_country, prog.holiday_subdivision)
+
+
+def user_factors_dir() -> Path:
+    """Folder of the user's own factor set files (CSV, same columns as subpart-w-leaker.csv)."""
+    if os.environ.get("PLUMEBOOK_FACTORS"):
+        return Path(os.environ["PLUMEBOOK_FACTORS"])
+    from platformdirs import user_data_dir
+
+    return Path(user_data_dir("plumebook", appauthor=False)) / "factors"
+
+
+def _read_csv(path: Path) -> list[dict[str, str]]:
+    with open(path, newline="", encoding="utf-8-sig") as fh:
+        return list(csv.DictReader(fh))
+
+
+@functools.lru_cache(maxsize=4)
+def _book(user_dir: str, _sig: tuple) -> FactorBook:
+    files = {p.name: _read_csv(p) for p in sorted(SHIPPED_FACTORS.glob("*.csv"))}
+    files["gwp.csv"] = _read_csv(DATA_DIR / "gwp.csv")
+    folder = Path(user_dir)
+    if folder.is_dir():
+        files.update({f"user:{p.name}": _read_csv(p) for p in sorted(folder.glob("*.csv"))})
+    book, problems = build_book(files)
+    if problems:
+        raise ValidationError(problems)
+    assert book is not None
+    return book
+
+
+def factor_book() -> FactorBook:
+    """Every shipped and user factor, GWP value and constant."""
+    folder = user_factors_dir()
+    sig = tuple((p.name, p.stat().st_mtime_ns) for p in sorted(folder.glob("*.csv"))) if folder.is_dir() else ()
+    return _book(str(folder), sig)

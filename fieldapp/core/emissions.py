@@ -1,0 +1,98 @@
+"""Emission totals over a reporting period: hours leaked × estimated rate, per leak, site and type.
+
+Duration conventions (a visible, selectable assumption; ../shared/reference/emission-factors.md):
+
+- ``detection``: the leak is taken to start at its detection date;
+- ``previous_survey``: at the previous survey of the site (the detection date if there was none);
+- ``period_start``: at the start of the reporting period.
+
+A leak is taken to stop on the date of the repair that a passing resurvey confirmed; an unconfirmed
+leak runs to the as-of date (or the period end). Void leaks emit nothing. Hours are whole days × 24,
+counted from the start date (inclusive) to the stop date (exclusive), clipped to the period.
+"""
+
+from __future__ import annotations
+
+from collections import defaultdict
+from collections.abc import Iterable
+from dataclasses import dataclass, field
+from datetime import date
+
+CONVENTIONS = ("detection", "previous_survey", "period_start")
+
+
+@dataclass(frozen=True, slots=True)
+class LeakPeriod:
+    """What the totals need about one leak."""
+
+    leak_id: str
+    site_id: str
+    site_name: str
+    component_type: str
+    tag: str
+    detected_on: date
+    methane_kg_per_h: float
+    basis: str
+    previous_survey_on: date | None = None
+    stopped_on: date | None = None
+    void: bool = False
+
+
+@dataclass(slots=True)
+class Totals:
+    """Methane (kg) and hours, summed."""
+
+    leaks: int = 0
+    hours: float = 0.0
+    methane_kg: float = 0.0
+
+
+@dataclass
+class EmissionReport:
+    """Per-leak rows and totals by site, by component type, and overall."""
+
+    start: date
+    end: date
+    convention: str
+    rows: list[dict] = field(default_factory=list)
+    by_site: dict[str, Totals] = field(default_factory=dict)
+    by_type: dict[str, Totals] = field(default_factory=dict)
+    total: Totals = field(default_factory=Totals)
+
+
+def totals(leaks: Iterable[LeakPeriod], start: date, end: date, as_of: date, convention: str) -> EmissionReport:
+    """Methane per leak inside [start, end] (both inclusive dates), stopping at ``as_of`` for open leaks."""
+    if convention not in CONVENTIONS:
+        raise ValueError(f"convention {convention!r} is not allowed; allowed: {', '.join(CONVENTIONS)}")
+    if end < start:
+        raise ValueError("the period ends before it starts")
+    p0, p1 = start.toordinal(), end.toordinal() + 1
+    open_stop = min(as_of.toordinal() + 1, p1)
+    report = EmissionReport(start, end, convention)
+    by_site: dict[str, Totals] = defaultdict(Totals)
+    by_type: dict[str, Totals] = defaultdict(Totals)
+    total = report.total
+    for leak in leaks:
+        if leak.void:
+            continue
+        if convention == "detection":
+            first = leak.detected_on.toordinal()
+        elif convention == "previous_survey":
+            first = (leak.previous_survey_on or leak.detected_on).toordinal()
+        else:
+            first = p0
+        last = leak.stopped_on.toordinal() if leak.stopped_on else open_stop
+        days = min(last, p1) - max(first, p0)
+        if days <= 0:
+            continue
+        hours = days * 24.0
+        kg = hours * leak.methane_kg_per_h
+        report.rows.append({"leak_id": leak.leak_id, "site": leak.site_name, "tag": leak.tag,
+                            "component_type": leak.component_type, "basis": leak.basis, "hours": hours,
+                            "methane_kg_per_h": leak.methane_kg_per_h, "methane_kg": kg})
+        for bucket in (by_site[leak.site_name], by_type[leak.component_type], total):
+            bucket.leaks += 1
+            bucket.hours += hours
+            bucket.methane_kg += kg
+    report.by_site, report.by_type = dict(by_site), dict(by_type)
+    return report

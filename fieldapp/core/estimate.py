@@ -1,0 +1,184 @@
+"""One rate estimate per leak, on the best basis available, and its CO2e.
+
+Order, best first (../shared/reference/emission-factors.md): a measured rate; a Method 21 screening
+value through the correlation equation (default-zero and pegged values handled); a leaker factor
+for the component type and service. A population average is never the rate of one leak.
+
+Worked example (subpart W leaker structure): 10 scf/h of whole gas at 0.90 methane mole fraction is
+9.0 scf/h of methane; at 0.0192 kg/scf (40 CFR 98.233 [memory]) that is 0.1728 kg/h.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+from fieldapp.core import units
+from fieldapp.core.enums import ComponentType, Service, SurveyMethod
+from fieldapp.core.factors import EPA_SERVICE, W_SERVICE, Factor, FactorBook
+
+PEGGED_LIMITS = (10_000.0, 100_000.0)
+
+
+class EstimateError(ValueError):
+    """No estimate can be made; ``field`` names the input at fault."""
+
+    def __init__(self, field: str, message: str):
+        self.field = field
+        super().__init__(f"{field}: {message}")
+
+
+@dataclass(frozen=True, slots=True)
+class LeakInput:
+    """What an estimate can use about one leak."""
+
+    component_type: ComponentType
+    service: Service
+    methane_mole_fraction: float
+    methane_weight_fraction: float | None = None
+    survey_method: SurveyMethod = SurveyMethod.OGI
+    screening_ppm: float | None = None
+    pegged_at: float | None = None
+    measured_rate: float | None = None
+    measured_unit: str = ""
+    measured_instrument: str = ""
+
+
+@dataclass(frozen=True, slots=True)
+class Estimate:
+    """A leak's engineering estimate with everything needed to defend it."""
+
+    methane_kg_per_h: float
+    whole_gas_scf_per_h: float | None
+    basis: str
+    factor_set: str
+    factor_row: str
+    source: str
+    status: str
+    verified: bool
+    composition: dict = field(default_factory=dict)
+    assumptions: tuple[str, ...] = ()
+
+
+def _composition(leak: LeakInput) -> dict:
+    return {"methane_mole_fraction": leak.methane_mole_fraction,
+            "methane_weight_fraction": leak.methane_weight_fraction}
+
+
+def _from_toc(kg_toc: float, leak: LeakInput, notes: list[str]) -> float:
+    if leak.methane_weight_fraction is None:
+        notes.append("methane weight fraction of TOC unknown: the mole fraction is used instead, which "
+                     "overstates methane when heavier hydrocarbons are present")
+        return kg_toc * leak.methane_mole_fraction
+    notes.append(f"TOC to methane by weight fraction {leak.methane_weight_fraction:g}")
+    return kg_toc * leak.methane_weight_fraction
+
+
+def _from_whole_gas(scf: float, leak: LeakInput, book: FactorBook, notes: list[str]) -> float:
+    density = book.constants["methane_density_kg_per_scf"]
+    notes.append(f"whole gas to methane by mole fraction {leak.methane_mole_fraction:g}; methane "
+                 f"{density.value:g} kg/scf ({density.citation}, {density.status})")
+    return units.scf_to_kg(scf * leak.methane_mole_fraction, density.value)
+
+
+def _measured(leak: LeakInput, book: FactorBook) -> Estimate:
+    notes = [f"measured with {leak.measured_instrument or 'an unnamed instrument'}"]
+    rate, unit = leak.measured_rate, leak.measured_unit
+    assert rate is not None
+    try:
+        mass = units.is_mass(unit)
+    except units.UnitError as exc:
+        raise EstimateError("measured_unit", str(exc)) from None
+    if mass:
+        notes.append("a measured mass rate is taken as methane")
+        kg, scf = units.convert(rate, unit, "kg/h"), None
+    else:
+        scf = units.convert(rate, unit, "scf/h")
+        notes.append("a measured volume rate is taken as whole gas at standard conditions")
+        kg = _from_whole_gas(scf, leak, book, notes)
+    return Estimate(kg, scf, "measured", "", f"{rate:g} {unit}", "measurement entered by the user", "measured",
+                    True, _composition(leak), tuple(notes))
+
+
+def _correlation(leak: LeakInput, book: FactorBook) -> Estimate:
+    ppm = leak.screening_ppm
+    assert ppm is not None
+    epa_class = book.classes[leak.component_type][0]
+    eq = book.correlations.get(epa_class)
+    if eq is None:
+        raise EstimateError("type", f"no correlation equation for {epa_class}")
+    notes: list[str] = []
+    if leak.pegged_at is not None and leak.pegged_at not in PEGGED_LIMITS:
+        raise EstimateError("pegged_at", "allowed: 10000, 100000 (ppmv)")
+    if ppm == 0:
+        basis, kg_toc, row = "default_zero", eq.default_zero, f"{epa_class} default-zero rate"
+        notes.append("screening value 0 ppmv: the default-zero rate applies")
+    elif ppm >= 100_000 or (leak.pegged_at is not None and ppm >= leak.pegged_at):
+        limit = 100_000.0 if ppm >= 100_000 else leak.pegged_at
+        kg_toc = eq.pegged_100000 if limit == 100_000 else eq.pegged_10000
+        basis, row = "pegged", f"{epa_class} pegged at {limit:,.0f} ppmv"
+        notes.append(f"reading pegged at the instrument limit of {limit:,.0f} ppmv: the pegged rate applies")
+    else:
+        basis, kg_toc = "correlation", eq.rate(ppm)
+        row = f"{epa_class}: {eq.a:g} x SV^{eq.b:g} at SV = {ppm:g} ppmv"
+    kg = _from_toc(kg_toc, leak, notes)
+    return Estimate(kg, None, basis, "epa-453-correlation", row, eq.citation, eq.status, eq.verified,
+                    _composition(leak), tuple(notes))
+
+
+def _leaker_candidates(leak: LeakInput, book: FactorBook, factor_set: str) -> Factor | None:
+    epa_class, w_component = book.classes[leak.component_type]
+    method = "method21" if leak.survey_method is SurveyMethod.METHOD21 else "ogi"
+    for component in (leak.component_type.value, w_component):
+        for service in (leak.service.value, W_SERVICE.get(leak.service, "")):
+            found = book.find("leaker", component, service, method, factor_set=factor_set)
+            if found:
+                return found
+    return book.find("screening_range", epa_class, EPA_SERVICE[leak.service], ">=10000", factor_set=factor_set)
+
+
+def _leaker(leak: LeakInput, book: FactorBook, factor_set: str | None) -> Estimate:
+    order = (factor_set,) if factor_set else book.leaker_order
+    for name in order:
+        factor = _leaker_candidates(leak, book, name)
+        if factor is None:
+            continue
+        notes = []
+        if leak.survey_method is SurveyMethod.AVO:
+            notes.append("found by AVO: the OGI leaker factor is used")
+        if factor.kind == "screening_range":
+            notes.append("an OGI-visible leak is taken to screen at or above 10,000 ppmv")
+        if not factor.verified:
+            notes.append(f"factor row not verified against the published table ({factor.status})")
+        if factor.note:
+            notes.append(factor.note)
+        if factor.basis == "whole_gas_volume":
+            scf = factor.value
+            kg = _from_whole_gas(scf, leak, book, notes)
+        elif factor.basis == "toc_mass":
+            scf, kg = None, _from_toc(factor.value, leak, notes)
+        else:
+            scf, kg = None, factor.value
+        return Estimate(kg, scf, "leaker_factor", factor.factor_set, factor.describe(), factor.citation,
+                        factor.status, factor.verified, _composition(leak), tuple(notes))
+    sets = factor_set or ", ".join(book.leaker_order)
+    raise EstimateError("type", f"no leaker factor for {leak.component_type.value} in {leak.service.value} "
+                        f"service in {sets}; add a factor set file")
+
+
+def estimate(leak: LeakInput, book: FactorBook, factor_set: str | None = None) -> Estimate:
+    """The best-basis estimate of one leak's methane rate."""
+    if not 0 <= leak.methane_mole_fraction <= 1:
+        raise EstimateError("methane_fraction", "must be between 0 and 1")
+    if leak.measured_rate is not None:
+        return _measured(leak, book)
+    if leak.screening_ppm is not None:
+        return _correlation(leak, book)
+    return _leaker(leak, book, factor_set)
+
+
+def co2e(methane_kg: float, book: FactorBook, gwp_set: str) -> dict[int, float]:
+    """CO2-equivalent of a methane mass for both horizons of a GWP set: {100: ..., 20: ...}."""
+    found = {h: c.value for (s, h), c in book.gwp.items() if s == gwp_set}
+    if not found:
+        raise EstimateError("gwp", f"{gwp_set!r} is not allowed; allowed: {', '.join(book.gwp_sets())}")
+    return {h: methane_kg * v for h, v in sorted(found.items(), reverse=True)}

@@ -1,0 +1,205 @@
+"""Factor tables as typed data: average, screening-range, population and leaker factors, correlation
+equations, component classes, constants and GWP values, each with its citation and status.
+
+``build_book`` takes the rows of the data files (plain dicts, read by fieldapp.catalog) and returns a
+``FactorBook`` or the problems found, each naming the file, line and column.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Iterable, Mapping
+from dataclasses import dataclass, field
+
+from fieldapp.core.enums import ComponentType, Service
+from fieldapp.core.fields import FieldProblem
+
+STATUSES = ("text", "memory", "summary", "company", "computed")
+KINDS = {"average": ("equipment_class", "service"), "screening_range": ("equipment_class", "service", "screening"),
+         "population": ("component", "service", "region"), "leaker": ("component", "service", "method")}
+BASES = {"kg TOC/h": "toc_mass", "kg CH4/h": "methane_mass", "scf whole gas/h": "whole_gas_volume"}
+EPA_SERVICE = {Service.GAS: "gas", Service.LIGHT_LIQUID: "light_oil", Service.HEAVY_LIQUID: "heavy_oil",
+               Service.WATER_OIL: "water_oil"}
+W_SERVICE = {Service.GAS: "gas", Service.LIGHT_LIQUID: "light_crude", Service.HEAVY_LIQUID: "heavy_crude"}
+
+
+@dataclass(frozen=True, slots=True)
+class Factor:
+    """One emission factor row."""
+
+    factor_set: str
+    kind: str
+    key: tuple[str, ...]
+    value: float
+    unit: str
+    basis: str
+    citation: str
+    status: str
+    verified: bool
+    note: str = ""
+
+    def describe(self) -> str:
+        """Short text naming the row, e.g. 'w-3a leaker valve/gas/ogi = 14.84 scf whole gas/h/...'."""
+        return f"{self.factor_set} {self.kind} {'/'.join(k for k in self.key if k)} = {self.value:g} {self.unit}"
+
+
+@dataclass(frozen=True, slots=True)
+class Correlation:
+    """A screening-value correlation equation, rate = a · SV^b (kg TOC/h, SV in ppmv)."""
+
+    equipment_class: str
+    a: float
+    b: float
+    default_zero: float
+    pegged_10000: float
+    pegged_100000: float
+    citation: str
+    status: str
+    verified: bool
+
+    def rate(self, ppm: float) -> float:
+        """The equation's rate at a screening value."""
+        return self.a * ppm**self.b
+
+
+@dataclass(frozen=True, slots=True)
+class Cited:
+    """A constant or GWP value with its citation."""
+
+    value: float
+    unit: str
+    citation: str
+    status: str
+    label: str = ""
+
+
+@dataclass(frozen=True)
+class FactorBook:
+    """Every factor the estimates use."""
+
+    factors: Mapping[tuple, Factor]
+    correlations: Mapping[str, Correlation]
+    classes: Mapping[ComponentType, tuple[str, str]]
+    leaker_order: tuple[str, ...]
+    constants: Mapping[str, Cited]
+    gwp: Mapping[tuple[str, int], Cited]
+    sets: Mapping[str, str] = field(default_factory=dict)
+
+    def find(self, kind: str, *key: str, factor_set: str | None = None) -> Factor | None:
+        """The factor of a kind and key, from one set or the first set that has it."""
+        if factor_set is not None:
+            return self.factors.get((factor_set, kind, *key))
+        for (_fs, k, *rest), factor in self.factors.items():
+            if k == kind and tuple(rest) == key:
+                return factor
+        return None
+
+    def gwp_sets(self) -> list[str]:
+        """Names of the GWP sets."""
+        return sorted({s for s, _h in self.gwp})
+
+    def constant(self, name: str) -> float:
+        """A named constant's value."""
+        return self.constants[name].value
+
+
+class _Rows:
+    def __init__(self) -> None:
+        self.problems: list[FieldProblem] = []
+
+    def num(self, row: Mapping, col: str, where: str, line: int, positive: bool = True) -> float | None:
+        try:
+            value = float(row[col])
+        except (KeyError, TypeError, ValueError):
+            self.problems.append(FieldProblem(f"{where}: {col}", f"{row.get(col)!r} is not a number", line))
+            return None
+        if not math.isfinite(value) or (positive and value < 0):
+            self.problems.append(FieldProblem(f"{where}: {col}", "must be a finite number, 0 or more", line))
+            return None
+        return value
+
+    def cited(self, row: Mapping, where: str, line: int) -> tuple[str, str, bool]:
+        citation, status = (row.get("citation") or "").strip(), (row.get("status") or "").strip()
+        if not citation:
+            self.problems.append(FieldProblem(f"{where}: citation", "is required", line))
+        if status not in STATUSES:
+            self.problems.append(FieldProblem(f"{where}: status", f"{status!r} is not allowed; allowed: "
+                                              f"{', '.join(STATUSES)}", line))
+        verified = (row.get("verified") or "no").strip().lower() in ("yes", "true", "1")
+        return citation, status, verified
+
+
+def _basis(unit: str) -> str | None:
+    for prefix, basis in BASES.items():
+        if unit.startswith(prefix):
+            return basis
+    return None
+
+
+def build_book(files: Mapping[str, Iterable[Mapping[str, str]]]) -> tuple[FactorBook | None, list[FieldProblem]]:
+    """Build the factor book from rows of each file, keyed by file name; problems name file, line, column."""
+    r = _Rows()
+    factors: dict[tuple, Factor] = {}
+    correlations: dict[str, Correlation] = {}
+    classes: dict[ComponentType, tuple[str, str]] = {}
+    order: list[tuple[int, str]] = []
+    constants: dict[str, Cited] = {}
+    gwp: dict[tuple[str, int], Cited] = {}
+    sets: dict[str, str] = {}
+    for name, rows in files.items():
+        for line, row in enumerate(rows, start=2):
+            if name == "component-classes.csv":
+                try:
+                    classes[ComponentType(row["component_type"])] = (row["epa_class"], row["subpart_w_component"])
+                except (KeyError, ValueError):
+                    r.problems.append(FieldProblem(f"{name}: component_type", "unknown component type", line))
+            elif name == "leaker-order.csv":
+                order.append((int(r.num(row, "rank", name, line) or 0), row["factor_set"]))
+            elif name == "constants.csv":
+                value = r.num(row, "value", name, line)
+                citation, status, _v = r.cited(row, name, line)
+                if value is not None:
+                    constants[row["name"]] = Cited(value, row.get("unit", ""), citation, status)
+            elif name == "gwp.csv":
+                value = r.num(row, "value", name, line)
+                citation, status, _v = r.cited(row, name, line)
+                if value is not None:
+                    gwp[(row["set"], int(row["horizon_years"]))] = Cited(value, "", citation, status, row["label"])
+            elif "a" in row and "b" in row:
+                nums = [r.num(row, c, name, line) for c in ("a", "b", "default_zero_kg_h", "pegged_10000_kg_h",
+                                                             "pegged_100000_kg_h")]
+                citation, status, verified = r.cited(row, name, line)
+                if None not in nums:
+                    correlations[row["equipment_class"]] = Correlation(row["equipment_class"], *nums, citation,
+                                                                       status, verified)
+            else:
+                _factor_row(r, name, line, row, factors, sets)
+    if r.problems:
+        return None, r.problems
+    user_sets = [s for s, origin in sets.items() if origin == "user"]
+    leaker_order = tuple([*user_sets, *(s for _rank, s in sorted(order))])
+    return FactorBook(factors, correlations, classes, leaker_order, constants, gwp, sets), []
+
+
+def _factor_row(r: _Rows, name: str, line: int, row: Mapping[str, str], factors: dict, sets: dict) -> None:
+    kind = (row.get("kind") or "").strip()
+    if kind not in KINDS:
+        r.problems.append(FieldProblem(f"{name}: kind", f"{kind!r} is not allowed; allowed: {', '.join(KINDS)}",
+                                       line))
+        return
+    value = r.num(row, "value", name, line)
+    unit = (row.get("unit") or "").strip()
+    basis = _basis(unit)
+    if basis is None:
+        r.problems.append(FieldProblem(f"{name}: unit", f"{unit!r} is not allowed; units start with one of: "
+                                       f"{', '.join(BASES)}", line))
+    citation, status, verified = r.cited(row, name, line)
+    factor_set = (row.get("factor_set") or "").strip()
+    if not factor_set:
+        r.problems.append(FieldProblem(f"{name}: factor_set", "is required", line))
+    key = tuple((row.get(col) or "").strip() for col in KINDS[kind])
+    if value is None or basis is None or not factor_set:
+        return
+    sets.setdefault(factor_set, "user" if name.startswith("user:") else "shipped")
+    factors[(factor_set, kind, *key)] = Factor(factor_set, kind, key, value, unit, basis, citation, status,
+                                               verified, (row.get("note") or "").strip())

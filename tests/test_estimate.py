@@ -1,0 +1,221 @@
+"""Rate estimates, units, GWP and emission totals against published values.
+
+Sources: ../shared/reference/emission-factors.md, status beside each value ([text] read in the
+document, [memory] recalled and not checked, [computed] derived from constants).
+"""
+
+from __future__ import annotations
+
+import math
+from datetime import date
+
+import globalwarmingpotentials
+import pytest
+from hypothesis import given
+from hypothesis import strategies as st
+
+from fieldapp import catalog
+from fieldapp.core import units
+from fieldapp.core.emissions import LeakPeriod, totals
+from fieldapp.core.enums import ComponentType, Service, SurveyMethod
+from fieldapp.core.estimate import EstimateError, LeakInput, co2e, estimate
+
+BOOK = catalog.factor_book()
+
+
+def leak(ctype="valve", service="gas", x=0.9, **kw):
+    return LeakInput(ComponentType(ctype), Service(service), x, **kw)
+
+
+def test_shipped_table_values():
+    f = BOOK.factors
+    # EPA-453/R-95-017 Table 2-4, gas valves 4.5E-03 kg/h [memory]; heavy-oil valves 8.4E-06 [text]
+    assert f[("epa-453-2-4", "average", "valves", "gas")].value == 4.5e-3
+    assert f[("epa-453-2-4", "average", "valves", "heavy_oil")].value == 8.4e-6
+    # Table 2-8 gas connectors >= 10,000 ppmv 2.6E-02 kg/h [memory]
+    assert f[("epa-453-2-8", "screening_range", "connectors", "gas", ">=10000")].value == 2.6e-2
+    # 40 CFR 98 Table W-1A, western gas valve 0.121 scf/h [text]; Table W-3A PRV by OGI 39.66 scf/h [text]
+    assert f[("w-1a", "population", "valve", "gas", "western")].value == 0.121
+    assert f[("w-3a", "leaker", "pressure_relief_valve", "gas", "ogi")].value == 39.66
+    # former Table W-1E row is [memory, low confidence]: shipped, marked unverified
+    assert not f[("w-1e", "leaker", "valve", "gas", "ogi")].verified
+
+
+def test_worked_example_whole_gas_to_methane():
+    # Issue example: 10 scf/h whole gas at 0.90 methane → 0.1728 kg/h with 0.0192 kg/scf.
+    # Step 1: 10 scf/h × 0.90 = 9.0 scf/h methane.  Step 2: 9.0 × 0.0192 kg/scf = 0.1728 kg/h.
+    result = estimate(leak(measured_rate=10, measured_unit="scf/h"), BOOK)
+    assert result.basis == "measured"
+    assert result.methane_kg_per_h == pytest.approx(0.1728, rel=1e-12)
+
+
+def test_methane_density_matches_molar_volume():
+    # [computed] 16.043 kg/kg-mol (methane molar mass, [memory]) / 836.5 scf/kg-mol = 0.01918 kg/scf
+    # shipped rounded to 3 figures
+    assert BOOK.constant("methane_density_kg_per_scf") == pytest.approx(16.043 / 836.5, abs=5e-5)
+
+
+def test_leaker_factor_for_an_ogi_leak():
+    # W-3A gas valve, OGI: 14.84 scf/h whole gas [text]; × 0.9 × 0.0192 = 0.256435 kg/h
+    result = estimate(leak(), BOOK)
+    assert (result.basis, result.factor_set) == ("leaker_factor", "w-3a")
+    assert result.methane_kg_per_h == pytest.approx(14.84 * 0.9 * 0.0192)
+    assert result.whole_gas_scf_per_h == 14.84
+    # same table, Method 21 column: 9.51 scf/h [text]
+    m21 = estimate(leak(survey_method=SurveyMethod.METHOD21), BOOK)
+    assert m21.methane_kg_per_h == pytest.approx(9.51 * 0.9 * 0.0192)
+
+
+def test_leaker_falls_back_to_screening_range_factor_when_no_leaker_row():
+    # flanges: no W-3A row; EPA Table 2-8 gas flange >= 10,000 ppmv 8.2E-02 kg TOC/h [memory]
+    result = estimate(leak("flange", methane_weight_fraction=0.75), BOOK)
+    assert result.factor_set == "epa-453-2-8"
+    assert result.methane_kg_per_h == pytest.approx(8.2e-2 * 0.75)
+    assert any("not verified" in a for a in result.assumptions)
+
+
+@pytest.mark.parametrize("ctype, ppm, a, b", [
+    # correlation equations, rate = a · SV^b kg TOC/h [memory]
+    ("valve", 1_000, 2.29e-6, 0.746), ("connector", 5_000, 1.53e-6, 0.735), ("pump_seal", 50_000, 5.03e-5, 0.610),
+])
+def test_correlation_equation(ctype, ppm, a, b):
+    result = estimate(leak(ctype, screening_ppm=ppm, methane_weight_fraction=0.8), BOOK)
+    assert result.basis == "correlation"
+    assert result.methane_kg_per_h == pytest.approx(a * ppm**b * 0.8)
+
+
+def test_correlation_valve_1000_ppm_by_hand():
+    # 2.29E-06 × 1000^0.746: log10 = 3 × 0.746 = 2.238 → 10^2.238 = 172.98 → 3.961E-04 kg TOC/h
+    result = estimate(leak(screening_ppm=1000, methane_weight_fraction=1.0), BOOK)
+    assert result.methane_kg_per_h == pytest.approx(3.961e-4, rel=1e-3)
+
+
+def test_default_zero_and_pegged_values():
+    # default-zero valve 7.8E-06, pegged at 10,000 / 100,000: 0.064 / 0.14 kg/h [memory]
+    assert estimate(leak(screening_ppm=0, methane_weight_fraction=1), BOOK).methane_kg_per_h == 7.8e-6
+    pegged = estimate(leak(screening_ppm=10_000, pegged_at=10_000, methane_weight_fraction=1), BOOK)
+    assert (pegged.basis, pegged.methane_kg_per_h) == ("pegged", 0.064)
+    assert estimate(leak(screening_ppm=100_000, methane_weight_fraction=1), BOOK).methane_kg_per_h == 0.14
+
+
+def test_missing_weight_fraction_is_a_stated_assumption():
+    result = estimate(leak(screening_ppm=500), BOOK)
+    assert any("weight fraction of TOC unknown" in a for a in result.assumptions)
+
+
+def test_bad_inputs_name_the_field():
+    with pytest.raises(EstimateError, match="measured_unit"):
+        estimate(leak(measured_rate=1, measured_unit="furlongs"), BOOK)
+    with pytest.raises(EstimateError, match="methane_fraction"):
+        estimate(leak(x=1.2), BOOK)
+    with pytest.raises(EstimateError, match="gwp"):
+        co2e(1.0, BOOK, "ar9")
+
+
+def test_gwp_values_agree_with_the_globalwarmingpotentials_package():
+    # Independent registry package (openclimatedata): AR4 25, AR5 28, AR5 with feedback 34 (100-yr) [text]
+    ref = globalwarmingpotentials.data
+    assert co2e(1, BOOK, "ar4")[100] == ref["AR4GWP100"]["CH4"]
+    assert co2e(1, BOOK, "ar5")[100] == ref["AR5GWP100"]["CH4"]
+    assert co2e(1, BOOK, "ar5-feedback")[100] == ref["AR5CCFGWP100"]["CH4"]
+    # The package's AR6 CH4 (27.9 / 81.2) carries no fossil split; AR6 Table 7.15 [text] puts non-fossil
+    # below and fossil above it (fossil adds the CO2 from oxidation).
+    assert co2e(1, BOOK, "ar6-non-fossil")[100] < ref["AR6GWP100"]["CH4"] < co2e(1, BOOK, "ar6-fossil")[100]
+    assert co2e(1, BOOK, "ar6-non-fossil")[20] < ref["AR6GWP20"]["CH4"] < co2e(1, BOOK, "ar6-fossil")[20]
+
+
+def test_twenty_year_horizon_is_always_larger():
+    # Fact of the trade: methane weighs more over 20 years than over 100 (common practice, no source).
+    for gwp_set in BOOK.gwp_sets():
+        both = co2e(1.0, BOOK, gwp_set)
+        assert both[20] > both[100]
+
+
+def test_unit_constants_by_definition():
+    assert units.convert(1, "lb/h", "kg/h") == 0.45359237  # exact by definition
+    assert units.convert(1, "scf/h", "m3/h") == pytest.approx(0.0283168, rel=2e-6)  # 1 ft = 0.3048 m exact
+    assert units.convert(1, "kg/h", "t/yr") == pytest.approx(8.76)  # [computed] 8760 h / 1000
+    with pytest.raises(units.UnitError):
+        units.convert(1, "kg/h", "scf/h")
+
+
+@given(value=st.floats(0, 1e9), a=st.sampled_from(list(units.MASS_UNITS)), b=st.sampled_from(list(units.MASS_UNITS)))
+def test_mass_unit_round_trip(value, a, b):
+    assert math.isclose(units.convert(units.convert(value, a, b), b, a), value, rel_tol=1e-12, abs_tol=1e-300)
+
+
+@given(value=st.floats(0, 1e9))
+def test_volume_unit_round_trip(value):
+    assert math.isclose(units.convert(units.convert(value, "scf/h", "m3/h"), "m3/h", "scf/h"), value,
+                        rel_tol=1e-12, abs_tol=1e-300)
+
+
+D = date.fromisoformat
+
+
+def period(**kw):
+    base = dict(leak_id="L1", site_id="S", site_name="Site", component_type="valve", tag="V-1",
+                detected_on=D("2026-03-10"), methane_kg_per_h=0.5, basis="leaker_factor")
+    return LeakPeriod(**{**base, **kw})
+
+
+def test_duration_conventions():
+    # detected Mar 10, repair confirmed, stopped Mar 20: 10 days × 24 h = 240 h × 0.5 kg/h = 120 kg
+    closed = period(stopped_on=D("2026-03-20"), previous_survey_on=D("2026-01-05"))
+    r = totals([closed], D("2026-01-01"), D("2026-12-31"), D("2026-12-01"), "detection")
+    assert (r.total.hours, r.total.methane_kg) == (240.0, 120.0)
+    # from the previous survey (Jan 5): 74 days
+    r = totals([closed], D("2026-01-01"), D("2026-12-31"), D("2026-12-01"), "previous_survey")
+    assert r.total.hours == 74 * 24
+    # from the start of the period (Jan 1): 78 days
+    r = totals([closed], D("2026-01-01"), D("2026-12-31"), D("2026-12-01"), "period_start")
+    assert r.total.hours == 78 * 24
+
+
+def test_open_leak_runs_to_the_as_of_date_and_void_leaks_emit_nothing():
+    still_open = period()
+    r = totals([still_open, period(leak_id="L2", void=True)], D("2026-03-01"), D("2026-03-31"),
+               D("2026-03-15"), "detection")
+    assert r.total.leaks == 1 and r.total.hours == 6 * 24  # Mar 10 .. Mar 15 inclusive
+    # clipped to the period end when as-of is later
+    r = totals([still_open], D("2026-03-01"), D("2026-03-31"), D("2026-06-01"), "detection")
+    assert r.total.hours == 22 * 24
+
+
+def test_totals_by_site_and_type():
+    leaks = [period(), period(leak_id="L2", component_type="flange", site_name="Other")]
+    r = totals(leaks, D("2026-03-01"), D("2026-03-31"), D("2026-03-20"), "detection")
+    assert set(r.by_site) == {"Site", "Other"} and set(r.by_type) == {"valve", "flange"}
+    assert r.total.methane_kg == pytest.approx(sum(t.methane_kg for t in r.by_site.values()))
+
+
+def test_user_factor_set_goes_first(tmp_path, monkeypatch):
+    (tmp_path / "ours.csv").write_text(
+        "factor_set,kind,component,service,method,value,unit,citation,status,verified,note\n"
+        "acme-2026,leaker,valve,gas,ogi,3.0,scf whole gas/h/leaking component,company study 2026,company,yes,\n")
+    monkeypatch.setenv("PLUMEBOOK_FACTORS", str(tmp_path))
+    book = catalog.factor_book()
+    assert book.leaker_order[0] == "acme-2026"
+    assert estimate(leak(), book).methane_kg_per_h == pytest.approx(3.0 * 0.9 * 0.0192)
+
+
+def test_invalid_user_factor_file_names_line_and_column(tmp_path, monkeypatch):
+    (tmp_path / "bad.csv").write_text("factor_set,kind,component,service,method,value,unit,citation,status\n"
+                                      "x,leaker,valve,gas,ogi,lots,scf whole gas/h,here,company\n")
+    monkeypatch.setenv("PLUMEBOOK_FACTORS", str(tmp_path))
+    with pytest.raises(catalog.ValidationError, match="line 2: user:bad.csv: value"):
+        catalog.factor_book()
+
+
+def test_estimate_command(capsys):
+    import json
+
+    from fieldapp.cli import main
+
+    assert main(["estimate", "--type", "valve", "--service", "gas", "--measured", "10", "--unit", "scf/h",
+                 "--methane-fraction", "0.9", "--json"]) == 0
+    out = json.loads(capsys.readouterr().out)
+    assert out["methane_kg_per_h"] == pytest.approx(0.1728)
+    assert out["co2e_kg_per_h"] == pytest.approx(0.1728 * 28)  # AR5 100-yr default [text]
+    assert main(["estimate", "--type", "teapot", "--service", "gas"]) == 2
+    assert "allowed: valve" in capsys.readouterr().err
