@@ -14,6 +14,7 @@ source). Worked example, 40 CFR 61.242-7(d) [text]: detected 2026-03-02 → firs
 
 from __future__ import annotations
 
+import functools
 from collections.abc import Sequence
 from dataclasses import dataclass, field
 from datetime import date
@@ -156,8 +157,13 @@ def _due(rule: DeadlineRule, start: date, is_holiday: HolidayTest) -> date:
     return add_span(start, rule.span.amount, rule.span.unit, is_holiday)
 
 
+@functools.lru_cache(maxsize=256)
+def _describe(rule: DeadlineRule) -> str:
+    return rule.describe()
+
+
 def _make(rule: DeadlineRule, due: date | None, done: date | None, note: str = "") -> Deadline:
-    return Deadline(rule.kind, due, rule.describe(), rule.citation, rule.status, done, note or rule.note)
+    return Deadline(rule.kind, due, _describe(rule), rule.citation, rule.status, done, note or rule.note)
 
 
 def deadlines(program: Program, facts: LeakFacts, is_holiday: HolidayTest = no_holidays) -> list[Deadline]:

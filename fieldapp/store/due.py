@@ -13,42 +13,64 @@ from typing import Any
 
 from fieldapp import catalog
 from fieldapp.core import due as due_core
-from fieldapp.core.enums import SiteKind, SurveyMethod
-from fieldapp.core.lifecycle import outstanding
+from fieldapp.core.enums import ActionKind, SiteKind, SurveyMethod
+from fieldapp.core.lifecycle import outstanding, summarize
+from fieldapp.core.records import Action
 from fieldapp.core.windows import PastSurvey, WindowError, next_window
 from fieldapp.store.base import Store
-from fieldapp.store.reads import facts_for, local_day, repeat_leakers
+from fieldapp.store.reads import REPEAT_MIN, REPEAT_SURVEYS, local_day
 
+REPEAT_COUNT = (
+    "(SELECT COUNT(DISTINCT l2.survey_id) FROM leaks l2 JOIN surveys v2 ON v2.id = l2.survey_id "
+    "WHERE l2.component_id = l.component_id AND l2.deleted = 0 AND v2.deleted = 0 AND "
+    "(SELECT COUNT(*) FROM surveys v3 WHERE v3.site_id = v2.site_id AND v3.deleted = 0 "
+    f"AND v3.started_at > v2.started_at) < {REPEAT_SURVEYS})"
+)
 OPEN_LEAKS = (
-    "FROM leaks l JOIN surveys v ON v.id = l.survey_id JOIN sites s ON s.id = v.site_id "
-    "WHERE l.deleted = 0 AND s.deleted = 0 AND NOT EXISTS (SELECT 1 FROM actions t WHERE t.leak_id = l.id "
-    "AND t.kind IN ('resurvey_passed', 'voided')) {site}"
+    "WITH open AS MATERIALIZED (SELECT l.id, l.detected_at, l.screening_ppm, l.component_id, s.id AS site_id, "
+    "s.name AS site_name, s.timezone, s.program_id, c.tag, c.type AS component_type, "
+    f"{REPEAT_COUNT} AS seen_in FROM leaks l "
+    "JOIN components c ON c.id = l.component_id JOIN surveys v ON v.id = l.survey_id "
+    "JOIN sites s ON s.id = v.site_id WHERE l.deleted = 0 AND s.deleted = 0 {site} AND NOT EXISTS "
+    "(SELECT 1 FROM actions t WHERE t.leak_id = l.id AND t.kind IN ('resurvey_passed', 'voided'))) "
+    "SELECT open.*, a.id AS action_id, a.kind, a.done_on, a.seq, a.reason, a.planned_on, a.shutdown_on "
+    "FROM open LEFT JOIN actions a ON a.leak_id = open.id ORDER BY open.id"
 )
 
 
 def leak_items(store: Store, site_id: str | None = None) -> list[due_core.DueItem]:
-    """Outstanding deadlines of every leak that is not closed or void."""
-    site = "AND s.id = ?" if site_id else ""
-    params = (site_id,) if site_id else ()
-    base = OPEN_LEAKS.format(site=site)
-    leaks = store.rows(
-        "SELECT l.id, l.detected_at, l.screening_ppm, l.component_id, s.id AS site_id, s.name AS site_name, "
-        "s.timezone, s.program_id, c.tag, c.type AS component_type "
-        + base.replace("FROM leaks l", "FROM leaks l JOIN components c ON c.id = l.component_id"), params)
-    actions = store.rows(
-        "SELECT a.leak_id, a.id, a.kind, a.done_on, a.seq, a.reason, a.planned_on, a.shutdown_on "
-        "FROM actions a WHERE a.leak_id IN (SELECT l.id " + base + ")", params)
-    facts = facts_for(leaks, actions)
-    repeats = repeat_leakers(store, site_id)
-    items = []
-    programs = {pid: catalog.program(pid) for pid in {leak["program_id"] for leak in leaks}}
-    for leak in leaks:
-        program = programs[leak["program_id"]]
-        holidays = catalog.holidays_for(program)
-        for deadline in outstanding(program, facts[leak["id"]], holidays):
-            items.append(due_core.from_deadline(leak["site_id"], leak["site_name"], deadline, leak["id"],
-                                                leak["tag"], leak["component_type"],
-                                                leak["component_id"] in repeats))
+    """Outstanding deadlines of every leak that is not closed or void, from one joined query."""
+    cursor = store.conn.execute(OPEN_LEAKS.format(site="AND s.id = ?" if site_id else ""),
+                                (site_id,) if site_id else ())
+    programs: dict[str, Any] = {}
+    zones: dict[str, Any] = {}
+    items: list[due_core.DueItem] = []
+    current: tuple | None = None
+    actions: list[Action] = []
+
+    def flush(row: tuple) -> None:
+        leak_id, detected_at, ppm, _comp, site, site_name, tz, program_id, tag, ctype, seen_in = row[:11]
+        program = programs.get(program_id)
+        if program is None:
+            program = programs[program_id] = (catalog.program(program_id),
+                                              catalog.holidays_for(catalog.program(program_id)))
+        facts = summarize(local_day(detected_at, tz, zones), actions, ppm)[0]
+        for deadline in outstanding(program[0], facts, program[1]):
+            items.append(due_core.from_deadline(site, site_name, deadline, leak_id, tag, ctype,
+                                                seen_in >= REPEAT_MIN))
+
+    for row in cursor:
+        if current is not None and row[0] != current[0]:
+            flush(current)
+            actions = []
+        current = row
+        if row[11] is not None:
+            actions.append(Action(id=row[11], leak_id=row[0], kind=ActionKind(row[12]),
+                                  done_on=date.fromisoformat(row[13]), actor="", seq=row[14], reason=row[15] or "",
+                                  planned_on=date.fromisoformat(row[16]) if row[16] else None,
+                                  shutdown_on=date.fromisoformat(row[17]) if row[17] else None))
+    if current is not None:
+        flush(current)
     return items
 
 

@@ -128,6 +128,11 @@ def _v3(conn: sqlite3.Connection) -> None:
     )
 
 
+@migration(4, "survey order per site for repeat leakers")
+def _v4(conn: sqlite3.Connection) -> None:
+    run_script(conn, "CREATE INDEX surveys_site_time ON surveys(site_id, started_at) WHERE deleted = 0;")
+
+
 LATEST = MIGRATIONS[-1][0]
 
 
