@@ -84,4 +84,24 @@ def load(store: Store, today: date | None = None) -> dict[str, int]:
                         values[key] = zone_today + timedelta(days=values[key])
                 ops.add_action(store, values, ACTOR)
                 counts["actions"] += 1
+    counts["photos"] = _add_photos(store, folder)
     return counts
+
+
+def _add_photos(store: Store, folder: Path) -> int:
+    """One invented still per leak, marked where its plume starts (after the records commit)."""
+    import importlib.util
+
+    from fieldapp.evidence.ingest import add_media
+
+    spec = importlib.util.spec_from_file_location("demo_photos", folder / "make_photos.py")
+    module = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(module)
+    rows = store.rows("SELECT l.id, l.detected_at, c.tag, s.timezone FROM leaks l JOIN components c "
+                      "ON c.id = l.component_id JOIN surveys v ON v.id = l.survey_id JOIN sites s ON s.id = v.site_id "
+                      "ORDER BY l.detected_at, c.tag")
+    for n, row in enumerate(rows):
+        taken = datetime.fromisoformat(row["detected_at"]).astimezone(ZoneInfo(row["timezone"])).replace(tzinfo=None)
+        data, (x, y) = module.photo(n, row["tag"], taken)
+        add_media(store, row["id"], data, f"demo-{row['tag']}.jpg", [(x, y, row["tag"])], ACTOR)
+    return len(rows)

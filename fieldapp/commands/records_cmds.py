@@ -54,8 +54,11 @@ def cmd_init(args: argparse.Namespace) -> int:
 
 
 def _remove_store(path: Path) -> None:
+    import shutil
+
     for suffix in ("", "-wal", "-shm"):
         Path(f"{path}{suffix}").unlink(missing_ok=True)
+    shutil.rmtree(path.parent / f"{path.stem}-media", ignore_errors=True)
 
 
 def has_display() -> bool:

@@ -140,6 +140,27 @@ class PhotoRef:
     media_kind: str = _spec(f.text(8), True, doc="photo or video")
     original_name: str = _spec(f.text(255), False, "")
     byte_size: int = _spec(f.number(0, None), True)
+    content_type: str = _spec(f.text(40), False, "", doc="image/jpeg, image/png, video/mp4, ...")
+    captured_at: str = _spec(f.text(40), False, "", doc="capture time as found in EXIF, never invented")
+    gps_lat: float | None = _spec(f.number(-90, 90))
+    gps_lon: float | None = _spec(f.number(-180, 180))
+    width: int | None = _spec(f.number(1, None))
+    height: int | None = _spec(f.number(1, None))
+    duration_s: float | None = _spec(f.number(0, None))
+    added_by: str = _spec(f.text(120), False, "")
+    added_on_device: str = _spec(f.text(64), False, "")
+    added_at: str = _spec(f.text(40), False, "")
+
+
+@dataclass(frozen=True, slots=True)
+class Marker:
+    """Where the leak is on a photo, in normalised coordinates (0..1 from the top-left corner)."""
+
+    id: str = _spec(ID, True)
+    media_id: str = _spec(ID, True)
+    x: float = _spec(f.number(0, 1), True)
+    y: float = _spec(f.number(0, 1), True)
+    label: str = _spec(f.text(80), False, "", doc="usually the component tag")
 
 
 R = TypeVar("R")
@@ -151,6 +172,7 @@ RECORD_TYPES: dict[str, type] = {
     "leaks": Leak,
     "actions": Action,
     "media": PhotoRef,
+    "markers": Marker,
 }
 
 
@@ -171,7 +193,7 @@ def field_names(cls: type) -> list[str]:
     return [name for name, _parse, _required in _specs(cls)]
 
 
-INTEGER_FIELDS = frozenset({"seq", "byte_size"})
+INTEGER_FIELDS = frozenset({"seq", "byte_size", "width", "height"})
 
 
 def parse_record(cls: type[R], values: Mapping[str, Any], line: int | None = None) -> tuple[R | None, list]:

@@ -35,7 +35,7 @@ from fieldapp.store.clock import HybridClock, Stamp
 from fieldapp.store.schema import migrate
 
 LIST_COLUMNS = frozenset({"areas", "areas_done"})
-RECORD_TABLES = ("sites", "components", "surveys", "leaks", "actions", "media")
+RECORD_TABLES = ("sites", "components", "surveys", "leaks", "actions", "media", "markers")
 APPEND_ONLY_TABLES = frozenset({"actions"})
 
 

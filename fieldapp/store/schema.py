@@ -133,6 +133,30 @@ def _v4(conn: sqlite3.Connection) -> None:
     run_script(conn, "CREATE INDEX surveys_site_time ON surveys(site_id, started_at) WHERE deleted = 0;")
 
 
+@migration(5, "media metadata and markers")
+def _v5(conn: sqlite3.Connection) -> None:
+    run_script(
+        conn,
+        """
+        ALTER TABLE media ADD COLUMN captured_at TEXT;
+        ALTER TABLE media ADD COLUMN gps_lat REAL;
+        ALTER TABLE media ADD COLUMN gps_lon REAL;
+        ALTER TABLE media ADD COLUMN width INTEGER;
+        ALTER TABLE media ADD COLUMN height INTEGER;
+        ALTER TABLE media ADD COLUMN duration_s REAL;
+        ALTER TABLE media ADD COLUMN content_type TEXT NOT NULL DEFAULT '';
+        ALTER TABLE media ADD COLUMN added_by TEXT NOT NULL DEFAULT '';
+        ALTER TABLE media ADD COLUMN added_on_device TEXT NOT NULL DEFAULT '';
+        ALTER TABLE media ADD COLUMN added_at TEXT NOT NULL DEFAULT '';
+        CREATE INDEX media_sha ON media(sha256);
+        CREATE TABLE markers (
+            id TEXT PRIMARY KEY, media_id TEXT NOT NULL REFERENCES media(id), x REAL NOT NULL, y REAL NOT NULL,
+            label TEXT NOT NULL DEFAULT '', deleted INTEGER NOT NULL DEFAULT 0);
+        CREATE INDEX markers_media ON markers(media_id);
+        """,
+    )
+
+
 LATEST = MIGRATIONS[-1][0]
 
 

@@ -41,7 +41,8 @@ agg AS (
   FROM ol LEFT JOIN actions a ON a.leak_id = ol.id GROUP BY ol.id)
 SELECT id, 'first_attempt', date(det, '+30 days'), site_name, tag, repeat_leaker FROM agg WHERE fa IS NULL
 UNION ALL
-SELECT id, 'final_repair', date(min(coalesce(fa, '9999-12-31'), date(det, '+30 days')), '+30 days'), site_name, tag, repeat_leaker
+SELECT id, 'final_repair', date(min(coalesce(fa, '9999-12-31'), date(det, '+30 days')), '+30 days'),
+  site_name, tag, repeat_leaker
   FROM agg WHERE first_rep IS NULL AND coalesce(last_kind, '') != 'delay_of_repair'
 UNION ALL
 SELECT id, 'resurvey', date(last_rep, '+30 days'), site_name, tag, repeat_leaker FROM agg
@@ -51,7 +52,8 @@ SELECT id, 're_repair', date(failed, '+30 days'), site_name, tag, repeat_leaker 
   WHERE failed IS NOT NULL AND (last_rep IS NULL OR last_rep <= failed)
   AND coalesce(last_kind, '') != 'delay_of_repair'
 UNION ALL
-SELECT id, 'delay_limit', min(coalesce(shutdown, '9999-12-31'), date(det, '+2 years')), site_name, tag, repeat_leaker FROM agg
+SELECT id, 'delay_limit', min(coalesce(shutdown, '9999-12-31'), date(det, '+2 years')),
+  site_name, tag, repeat_leaker FROM agg
   WHERE delayed_on IS NOT NULL AND (last_rep IS NULL OR last_rep < delayed_on)
 """
 

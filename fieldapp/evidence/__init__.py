@@ -1,0 +1,1 @@
+"""Photo and video evidence: content-addressed originals, derivatives, markers, integrity checks."""

@@ -1,0 +1,71 @@
+"""The media folder beside a store: originals named by SHA-256, derivatives rebuilt on demand.
+
+Layout::
+
+    <store>-media/originals/ab/abcdef...            original bytes, never altered
+    <store>-media/derived/ab/abcdef...-thumb.jpg    thumbnail (rebuilt if missing)
+    <store>-media/derived/ab/abcdef...-report.jpg   report-size copy
+    <store>-media/derived/ab/abcdef...-marked-<hash of markers>.jpg
+
+Originals are written to a temp file in the same folder, fsynced, and renamed into place, before the
+row that references them commits. Temp files left by a crash are removed by ``clean_temp``.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import os
+from pathlib import Path
+
+from fieldapp.atomic import TEMP_PREFIX, fsync_dir
+
+
+class Library:
+    """Media folder of one store."""
+
+    def __init__(self, store_path: Path):
+        self.root = store_path.parent / f"{store_path.stem}-media"
+        self.originals = self.root / "originals"
+        self.derived = self.root / "derived"
+
+    def original(self, sha256: str) -> Path:
+        """Path of an original by its hash."""
+        return self.originals / sha256[:2] / sha256
+
+    def derivative(self, sha256: str, name: str) -> Path:
+        """Path of a derivative (``thumb``, ``report`` or ``marked-…``)."""
+        return self.derived / sha256[:2] / f"{sha256}-{name}.jpg"
+
+    def put(self, data: bytes, sha256: str) -> Path:
+        """Store original bytes under their hash (temp file, fsync, rename); a no-op when already there."""
+        target = self.original(sha256)
+        if target.exists() and target.stat().st_size == len(data):
+            return target
+        target.parent.mkdir(parents=True, exist_ok=True)
+        tmp = target.parent / f"{TEMP_PREFIX}{sha256[:16]}-{os.getpid()}"
+        with open(tmp, "wb") as fh:
+            fh.write(data)
+            fh.flush()
+            os.fsync(fh.fileno())
+        os.replace(tmp, target)
+        fsync_dir(target.parent)
+        return target
+
+    def clean_temp(self) -> int:
+        """Remove temp files left by an interrupted write; returns how many."""
+        removed = 0
+        for folder in (self.originals, self.derived):
+            if folder.is_dir():
+                for tmp in folder.rglob(f"{TEMP_PREFIX}*"):
+                    tmp.unlink(missing_ok=True)
+                    removed += 1
+        return removed
+
+
+def sha256_file(path: Path) -> str:
+    """SHA-256 of a file, read in 1 MiB blocks."""
+    digest = hashlib.sha256()
+    with open(path, "rb") as fh:
+        for block in iter(lambda: fh.read(1 << 20), b""):
+            digest.update(block)
+    return digest.hexdigest()
