@@ -157,6 +157,20 @@ def _v5(conn: sqlite3.Connection) -> None:
     )
 
 
+@migration(6, "merge conflicts")
+def _v6(conn: sqlite3.Connection) -> None:
+    run_script(
+        conn,
+        """
+        CREATE TABLE conflicts (
+            tbl TEXT NOT NULL, row_id TEXT NOT NULL, field TEXT NOT NULL,
+            winner_device TEXT NOT NULL, winner_seq INTEGER NOT NULL, winner_value TEXT,
+            loser_device TEXT NOT NULL, loser_seq INTEGER NOT NULL, loser_value TEXT,
+            PRIMARY KEY (row_id, field, loser_device, loser_seq));
+        """,
+    )
+
+
 LATEST = MIGRATIONS[-1][0]
 
 

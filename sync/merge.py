@@ -1,0 +1,171 @@
+"""Merging bundles into a store: verified first, then applied in one transaction.
+
+Rule for concurrent edits (documented in DEVELOPERS.md): every record is rebuilt by replaying all
+of its journal entries in hybrid-logical-clock order (``hlc``: wall milliseconds, counter, device
+id); an update sets only the fields it changed. When two devices changed the same field without
+one having seen the other's value, the later stamp wins, and the losing value stays in the journal
+and is listed in ``conflicts``. The result depends only on the set of entries, so merging the same
+bundle twice changes nothing and bundles merge to the same state in any order. Actions and media
+are append-only and never conflict.
+"""
+
+from __future__ import annotations
+
+import json
+from collections import defaultdict
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
+
+from fieldapp import catalog
+from fieldapp.atomic import write_bytes
+from fieldapp.evidence.ingest import library
+from fieldapp.store.base import Store, dumps, to_sql
+from fieldapp.store.clock import Stamp
+from sync.bundle import ACK_KEY, ENTRY_COLUMNS
+from sync.bundle_check import BundleError, CheckedBundle, check
+
+TABLE_ORDER = ("sites", "components", "surveys", "leaks", "actions", "media", "markers")
+
+
+@dataclass
+class MergeResult:
+    """What one merge did."""
+
+    path: Path
+    kind: str
+    device_id: str
+    new_entries: int = 0
+    rows: int = 0
+    media: int = 0
+    conflicts: int = 0
+    notes: list[str] = field(default_factory=list)
+
+
+def contiguous_seq(store: Store, device: str) -> int:
+    """Highest sequence number of a device held without gaps (0 if none)."""
+    count, top = store.conn.execute("SELECT COUNT(*), MAX(seq) FROM journal WHERE device_id = ?", (device,)).fetchone()
+    return top if count and count == top else 0
+
+
+def _new_entries(store: Store, bundle: CheckedBundle) -> list[dict[str, Any]]:
+    m = bundle.manifest
+    if m["kind"] == "device":
+        device = m["device_id"]
+        if device == store.device_id:
+            raise BundleError(bundle.path, "was made by this same device")
+        have = contiguous_seq(store, device)
+        if m["seq_from"] > have + 1:
+            raise BundleError(bundle.path, f"is out of order: this store holds device {device[:8]}'s entries up to "
+                              f"{have}, the bundle starts at {m['seq_from']}; merge the earlier bundle first")
+        return [e for e in bundle.entries if e["seq"] > have]
+    if m.get("for_device") != store.device_id:
+        raise BundleError(bundle.path, "was made for another device")
+    known = set(store.conn.execute("SELECT device_id || ':' || seq FROM journal").fetchall())
+    return [e for e in bundle.entries if (f"{e['device_id']}:{e['seq']}",) not in known]
+
+
+def merge(store: Store, path: Path | str) -> MergeResult:
+    """Verify a bundle completely, then apply what is new in one transaction."""
+    bundle = check(path)
+    m = bundle.manifest
+    result = MergeResult(Path(path), m["kind"], m["device_id"])
+    new = _new_entries(store, bundle)
+    result.new_entries = len(new)
+    lib = library(store)
+    needed = {e["new"]["sha256"] for e in new if e["tbl"] == "media" and e["new"]}
+    for sha in sorted(needed):
+        if not lib.original(sha).exists():
+            lib.put(bundle.media[sha], sha)
+            result.media += 1
+    with store.transaction():
+        store.conn.execute("PRAGMA defer_foreign_keys = ON")
+        if new:
+            store.conn.executemany(
+                f"INSERT OR IGNORE INTO journal ({', '.join(ENTRY_COLUMNS)}) VALUES ({', '.join('?' * 10)})",
+                [(*(e[c] for c in ENTRY_COLUMNS[:8]), None if e["old"] is None else dumps(e["old"]),
+                  None if e["new"] is None else dumps(e["new"])) for e in new])
+            store.clock.observe(Stamp.parse(max(e["hlc"] for e in new)))
+            result.rows, result.conflicts = rebuild(store, {(e["tbl"], e["row_id"]) for e in new})
+        if m["kind"] == "office":
+            store.conn.execute("INSERT INTO meta(key, value) VALUES (?, ?) ON CONFLICT(key) DO UPDATE SET "
+                               "value = MAX(CAST(value AS INTEGER), CAST(excluded.value AS INTEGER))",
+                               (ACK_KEY, str(m.get("ack_seq", 0))))
+            folder = catalog.user_programs_dir()
+            for name, blob in bundle.programs.items():
+                target = folder / name
+                if not target.exists() or target.read_bytes() != blob:
+                    write_bytes(target, blob)
+                    result.notes.append(f"program file {name} updated")
+    return result
+
+
+def replay(entries: list[dict[str, Any]]) -> tuple[dict[str, Any] | None, list[tuple]]:
+    """A record's state from its entries (sorted by hlc), and its conflicts (field, winner, loser)."""
+    state: dict[str, Any] | None = None
+    writer: dict[str, dict[str, Any]] = {}
+    conflicts = []
+    for e in entries:
+        if e["op"] == "insert" or state is None:
+            state = dict(e["new"]) if state is None else {**e["new"], **state}
+            for k in state:
+                writer[k] = e
+            continue
+        old, new = e["old"] or {}, e["new"] or {}
+        for key, value in new.items():
+            if old.get(key) == value:
+                continue
+            previous = writer.get(key)
+            if previous is not None and previous["device_id"] != e["device_id"] and old.get(key) != state.get(key):
+                conflicts.append((key, e, previous, state.get(key)))
+            state[key] = value
+            writer[key] = e
+    return state, conflicts
+
+
+def rebuild(store: Store, touched: set[tuple[str, str]]) -> tuple[int, int]:
+    """Rebuild the touched records from the whole journal; returns (rows written, conflicts found)."""
+    conn = store.conn
+    conn.execute("CREATE TEMP TABLE IF NOT EXISTS touched (row_id TEXT PRIMARY KEY)")
+    conn.execute("DELETE FROM touched")
+    conn.executemany("INSERT OR IGNORE INTO touched VALUES (?)", [(r,) for _t, r in touched])
+    cursor = conn.execute("SELECT j.tbl, j.row_id, j.device_id, j.seq, j.hlc, j.op, j.old, j.new FROM journal j "
+                          "JOIN touched t ON t.row_id = j.row_id ORDER BY j.row_id, j.hlc")
+    grouped: dict[tuple[str, str], list[dict[str, Any]]] = defaultdict(list)
+    for tbl, row_id, device, seq, hlc, op, old, new in cursor:
+        grouped[(tbl, row_id)].append({"device_id": device, "seq": seq, "hlc": hlc, "op": op,
+                                       "old": json.loads(old) if old else None,
+                                       "new": json.loads(new) if new else None})
+    by_table: dict[str, list[dict[str, Any]]] = defaultdict(list)
+    conflict_rows = []
+    for (tbl, row_id), entries in grouped.items():
+        state, conflicts = replay(entries)
+        if state is not None:
+            by_table[tbl].append(state)
+        for key, winner, loser, _value in conflicts:
+            conflict_rows.append((tbl, row_id, key, winner["device_id"], winner["seq"],
+                                  json.dumps(winner["new"].get(key)), loser["device_id"], loser["seq"],
+                                  json.dumps(loser["new"].get(key) if loser["new"] else None)))
+    written = 0
+    for tbl in TABLE_ORDER:
+        rows = by_table.get(tbl)
+        if not rows:
+            continue
+        columns = [c[1] for c in conn.execute(f"PRAGMA table_info({tbl})")]
+        cols = [c for c in columns if c in rows[0]]
+        values = [tuple(to_sql(r).get(c) for c in cols) for r in rows]
+        placeholders = ", ".join("?" * len(cols))
+        if tbl == "actions":
+            sql = f"INSERT OR IGNORE INTO actions ({', '.join(cols)}) VALUES ({placeholders})"
+        else:
+            updates = ", ".join(f"{c} = excluded.{c}" for c in cols if c != "id")
+            sql = f"INSERT INTO {tbl} ({', '.join(cols)}) VALUES ({placeholders}) ON CONFLICT(id) DO UPDATE SET {updates}"
+        conn.executemany(sql, values)
+        written += len(rows)
+    conn.executemany("INSERT OR IGNORE INTO conflicts VALUES (?,?,?,?,?,?,?,?,?)", conflict_rows)
+    return written, len(conflict_rows)
+
+
+def conflicts(store: Store) -> list[dict[str, Any]]:
+    """Every concurrent edit resolved by the merge rule, with both values."""
+    return store.rows("SELECT * FROM conflicts ORDER BY tbl, row_id, field")

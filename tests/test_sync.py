@@ -1,0 +1,193 @@
+"""Bundles and the office merge: round trip, idempotence, order independence, hostile bundles."""
+
+from __future__ import annotations
+
+import itertools
+import json
+import shutil
+import zipfile
+
+import pytest
+
+from fieldapp.core.fields import ValidationError
+from fieldapp.evidence.ingest import library
+from fieldapp.store import ops
+from fieldapp.store.base import Store
+from sync.bundle import make_device_bundle, make_office_bundle
+from sync.dump import canonical, fingerprint
+from sync.merge import conflicts, merge
+from tests.conftest import SITE, Wall
+
+
+def new_store(tmp_path, name, wall=None):
+    return Store(tmp_path / name / "store.db", actor=name, wall=wall or Wall())
+
+
+def test_round_trip_reproduces_every_record_and_media_file(demo_store, tmp_path):
+    office = new_store(tmp_path, "office")
+    bundle = make_device_bundle(demo_store, tmp_path / "b.zip")
+    result = merge(office, bundle.path)
+    assert result.media == 21
+    assert canonical(office) == canonical(demo_store)
+    for row in office.rows("SELECT sha256 FROM media"):
+        assert library(office).original(row["sha256"]).read_bytes() == \
+            library(demo_store).original(row["sha256"]).read_bytes()
+
+
+def test_merging_twice_changes_nothing(demo_store, tmp_path):
+    office = new_store(tmp_path, "office")
+    path = make_device_bundle(demo_store, tmp_path / "b.zip").path
+    merge(office, path)
+    before = fingerprint(office)
+    assert merge(office, path).new_entries == 0
+    assert fingerprint(office) == before
+
+
+def test_remade_bundle_after_a_failed_hand_over_repeats_the_changes(demo_store, tmp_path):
+    first = make_device_bundle(demo_store, tmp_path / "b1.zip")
+    again = make_device_bundle(demo_store, tmp_path / "b2.zip")  # office never acknowledged b1
+    assert (again.seq_from, again.seq_to) == (first.seq_from, first.seq_to)
+
+
+def three_devices(tmp_path):
+    """An office that sends one site to three tablets; each tablet edits, two edit the same field."""
+    office = new_store(tmp_path, "office")
+    site = ops.add_site(office, SITE)
+    comp = ops.add_component(office, {"site_id": site.id, "tag": "C-1", "type": "valve", "service": "gas"})
+    tablets = []
+    for i in range(3):
+        tablet = new_store(tmp_path, f"tablet{i}", Wall())
+        merge(tablet, make_office_bundle(office, tmp_path / f"o{i}.zip", tablet.device_id).path)
+        tablets.append(tablet)
+    tablets[0].wall.advance(10)
+    ops.edit(tablets[0], "components", comp.id, {"area": "north skid"})
+    tablets[1].wall.advance(20)
+    ops.edit(tablets[1], "components", comp.id, {"area": "south skid"})
+    tablets[2].wall.advance(5)
+    ops.edit(tablets[2], "components", comp.id, {"equipment": "separator"})
+    ops.add_component(tablets[2], {"site_id": site.id, "tag": "C-2", "type": "flange", "service": "gas"})
+    bundles = [make_device_bundle(t, tmp_path / f"t{i}.zip").path for i, t in enumerate(tablets)]
+    return office, comp, bundles
+
+
+def test_three_devices_in_every_order_give_the_same_office_state(tmp_path):
+    office, comp, bundles = three_devices(tmp_path)
+    seed = tmp_path / "office"
+    prints = set()
+    for n, order in enumerate(itertools.permutations(bundles)):
+        copy = tmp_path / f"copy{n}"
+        shutil.copytree(seed, copy)
+        store = Store(copy / "store.db")
+        for path in order:
+            merge(store, path)
+        prints.add(fingerprint(store))
+        row = store.get("components", comp.id)
+        assert (row["area"], row["equipment"]) == ("south skid", "separator")  # later stamp wins the area
+        found = conflicts(store)
+        assert len(found) == 1 and found[0]["field"] == "area" and json.loads(found[0]["loser_value"]) == "north skid"
+        store.close()
+    assert len(prints) == 1
+
+
+def test_office_bundle_acknowledges_the_tablets_entries(demo_store, tmp_path):
+    office = new_store(tmp_path, "office")
+    merge(office, make_device_bundle(demo_store, tmp_path / "b.zip").path)
+    merge(demo_store, make_office_bundle(office, tmp_path / "o.zip", demo_store.device_id).path)
+    nothing_new = make_device_bundle(demo_store, tmp_path / "b2.zip")
+    assert nothing_new.entries == 0
+
+
+def rewrite(src, dst, change):
+    """Copy a bundle, letting ``change(name, data) -> (name, data) | None`` alter members."""
+    with zipfile.ZipFile(src) as zin, zipfile.ZipFile(dst, "w") as zout:
+        for info in zin.infolist():
+            out = change(info.filename, zin.read(info))
+            if out is not None:
+                zout.writestr(out[0], out[1])
+    return dst
+
+
+def manifest_edit(edit):
+    def change(name, data):
+        if name == "manifest.json":
+            m = json.loads(data)
+            edit(m)
+            return name, json.dumps(m)
+        return name, data
+    return change
+
+
+def hostile(kind, good, tmp_path):
+    out = tmp_path / f"{kind}.zip"
+    if kind == "truncated":
+        out.write_bytes(good.read_bytes()[: len(good.read_bytes()) // 2])
+    elif kind == "flipped_byte":
+        raw = bytearray(good.read_bytes())
+        raw[len(raw) // 3] ^= 0xFF
+        out.write_bytes(bytes(raw))
+    elif kind == "hash_mismatch":
+        rewrite(good, out, lambda n, d: (n, d.replace(b'"op": "insert"', b'"op": "delete"', 1))
+                if n == "journal.jsonl" else (n, d))
+    elif kind == "size_mismatch":
+        rewrite(good, out, manifest_edit(lambda m: m["members"][0].update(size=m["members"][0]["size"] + 1)))
+    elif kind == "absolute_path":
+        rewrite(good, out, lambda n, d: ("/etc/" + n, d) if n == "journal.jsonl" else (n, d))
+    elif kind == "dot_dot":
+        rewrite(good, out, lambda n, d: ("../" + n, d) if n == "journal.jsonl" else (n, d))
+    elif kind == "link":
+        rewrite(good, out, lambda n, d: (n, d))
+        with zipfile.ZipFile(out, "a") as zf:
+            info = zipfile.ZipInfo("media/" + "0" * 64)
+            info.external_attr = (0o120777 << 16)
+            zf.writestr(info, "/etc/passwd")
+    elif kind == "bomb":
+        rewrite(good, out, lambda n, d: (n, d))
+        with zipfile.ZipFile(out, "a", zipfile.ZIP_DEFLATED) as zf:
+            zf.writestr("programs/zeros.toml", b"\0" * 50_000_000)
+    elif kind == "unknown_version":
+        rewrite(good, out, manifest_edit(lambda m: m.update(version=99)))
+    return out
+
+
+HOSTILE = ["truncated", "flipped_byte", "hash_mismatch", "size_mismatch", "absolute_path", "dot_dot", "link",
+           "bomb", "unknown_version"]
+
+
+@pytest.mark.parametrize("kind", HOSTILE)
+def test_hostile_bundle_is_refused_and_changes_nothing(demo_store, tmp_path, kind):
+    office = new_store(tmp_path, "office")
+    good = make_device_bundle(demo_store, tmp_path / "good.zip").path
+    bad = hostile(kind, good, tmp_path)
+    before = fingerprint(office)
+    with pytest.raises(ValidationError, match="bundle"):
+        merge(office, bad)
+    assert fingerprint(office) == before
+    assert not list(library(office).root.rglob("*")) or not list(library(office).originals.rglob("*"))
+
+
+def test_out_of_order_replay_is_refused(demo_store, tmp_path):
+    office = new_store(tmp_path, "office")
+    first = make_device_bundle(demo_store, tmp_path / "b1.zip", since=0)
+    ops.add_site(demo_store, {**SITE, "name": "Another pad"})
+    second = make_device_bundle(demo_store, tmp_path / "b2.zip", since=first.seq_to)
+    before = fingerprint(office)
+    with pytest.raises(ValidationError, match="out of order"):
+        merge(office, second.path)
+    assert fingerprint(office) == before
+    merge(office, first.path)
+    merge(office, second.path)
+    assert office.rows("SELECT 1 FROM sites WHERE name = 'Another pad'")
+
+
+def test_bundle_commands(demo_store, tmp_path, capsys):
+    from fieldapp.cli import main
+
+    office = tmp_path / "office.db"
+    out = tmp_path / "cli.zip"
+    assert main(["--db", str(demo_store.path), "bundle", "make", "--out", str(out)]) == 0
+    assert main(["--db", str(office), "bundle", "merge", str(out), str(out)]) == 0
+    text = capsys.readouterr().out
+    assert "0 new entries" in text
+    out.write_bytes(b"PK not really")
+    assert main(["--db", str(office), "bundle", "merge", str(out)]) == 2
+    assert "not a readable zip" in capsys.readouterr().err
