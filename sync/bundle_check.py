@@ -14,11 +14,13 @@ import json
 import re
 import stat
 import zipfile
+from collections.abc import Callable
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
 from fieldapp.core.fields import FieldProblem, ValidationError
+from fieldapp.store.base import loads
 from sync.bundle import ENTRY_COLUMNS, FORMAT, VERSION
 
 MAX_MEMBER = 2 * 1024**3
@@ -79,8 +81,12 @@ def _read(zf: zipfile.ZipFile, info: zipfile.ZipInfo, path: Path) -> bytes:
     return data
 
 
-def check(path: Path | str) -> CheckedBundle:
-    """Read and verify a whole bundle; BundleError (nothing changed) if anything is wrong."""
+def check(path: Path | str, held: Callable[[str], int] | None = None) -> CheckedBundle:
+    """Read and verify a whole bundle; BundleError (nothing changed) if anything is wrong.
+
+    ``held(device)`` tells how far the store already holds a device's entries; a device bundle
+    entirely below that is verified by its hashes and returned without decoding its entries.
+    """
     path = Path(path)
     try:
         zf = zipfile.ZipFile(path)
@@ -112,6 +118,9 @@ def check(path: Path | str) -> CheckedBundle:
     for name, blob in data.items():
         if name.startswith("media/") and hashlib.sha256(blob).hexdigest() != name[6:]:
             raise BundleError(path, f"member {name!r} is not named by its SHA-256")
+    if held is not None and manifest.get("kind") == "device" and isinstance(manifest.get("seq_to"), int) \
+            and manifest["seq_to"] <= held(str(manifest.get("device_id"))):
+        return CheckedBundle(path, manifest, [], {}, {})
     entries = _entries(path, data.get("journal.jsonl", b""), manifest)
     media = {n[6:]: b for n, b in data.items() if n.startswith("media/")}
     needed = {e["new"]["sha256"] for e in entries if e["tbl"] == "media" and e["new"]}
@@ -123,8 +132,8 @@ def check(path: Path | str) -> CheckedBundle:
 
 def _entries(path: Path, blob: bytes, manifest: dict[str, Any]) -> list[dict[str, Any]]:
     try:
-        entries = [json.loads(line) for line in blob.decode("utf-8").splitlines() if line.strip()]
-    except (UnicodeDecodeError, json.JSONDecodeError) as exc:
+        entries = [loads(line) for line in blob.splitlines() if line.strip()]
+    except (UnicodeDecodeError, ValueError) as exc:
         raise BundleError(path, f"journal.jsonl is damaged ({exc})") from None
     if len(entries) != manifest.get("entries"):
         raise BundleError(path, "journal.jsonl holds another number of entries than the manifest says")

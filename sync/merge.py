@@ -20,7 +20,7 @@ from typing import Any
 from fieldapp import catalog
 from fieldapp.atomic import write_bytes
 from fieldapp.evidence.ingest import library
-from fieldapp.store.base import Store, dumps, to_sql
+from fieldapp.store.base import LIST_COLUMNS, Store, dumps, loads, to_sql
 from fieldapp.store.clock import Stamp
 from sync.bundle import ACK_KEY, ENTRY_COLUMNS
 from sync.bundle_check import BundleError, CheckedBundle, check
@@ -66,8 +66,12 @@ def _new_entries(store: Store, bundle: CheckedBundle) -> list[dict[str, Any]]:
 
 
 def merge(store: Store, path: Path | str) -> MergeResult:
-    """Verify a bundle completely, then apply what is new in one transaction."""
-    bundle = check(path)
+    """Verify a bundle completely, then apply what is new in one transaction.
+
+    A device bundle whose whole range this store already holds is verified (every member's size and
+    SHA-256) but its entries are not decoded again: there is nothing new in it.
+    """
+    bundle = check(path, held=lambda device: contiguous_seq(store, device))
     m = bundle.manifest
     result = MergeResult(Path(path), m["kind"], m["device_id"])
     new = _new_entries(store, bundle)
@@ -134,8 +138,8 @@ def rebuild(store: Store, touched: set[tuple[str, str]]) -> tuple[int, int]:
     grouped: dict[tuple[str, str], list[dict[str, Any]]] = defaultdict(list)
     for tbl, row_id, device, seq, hlc, op, old, new in cursor:
         grouped[(tbl, row_id)].append({"device_id": device, "seq": seq, "hlc": hlc, "op": op,
-                                       "old": json.loads(old) if old else None,
-                                       "new": json.loads(new) if new else None})
+                                       "old": loads(old) if old else None,
+                                       "new": loads(new) if new else None})
     by_table: dict[str, list[dict[str, Any]]] = defaultdict(list)
     conflict_rows = []
     for (tbl, row_id), entries in grouped.items():
@@ -153,13 +157,16 @@ def rebuild(store: Store, touched: set[tuple[str, str]]) -> tuple[int, int]:
             continue
         columns = [c[1] for c in conn.execute(f"PRAGMA table_info({tbl})")]
         cols = [c for c in columns if c in rows[0]]
-        values = [tuple(to_sql(r).get(c) for c in cols) for r in rows]
+        if LIST_COLUMNS.intersection(cols):
+            rows = [to_sql(r) for r in rows]
+        values = [tuple(r.get(c) for c in cols) for r in rows]
         placeholders = ", ".join("?" * len(cols))
         if tbl == "actions":
             sql = f"INSERT OR IGNORE INTO actions ({', '.join(cols)}) VALUES ({placeholders})"
         else:
             updates = ", ".join(f"{c} = excluded.{c}" for c in cols if c != "id")
-            sql = f"INSERT INTO {tbl} ({', '.join(cols)}) VALUES ({placeholders}) ON CONFLICT(id) DO UPDATE SET {updates}"
+            sql = (f"INSERT INTO {tbl} ({', '.join(cols)}) VALUES ({placeholders}) "
+                   f"ON CONFLICT(id) DO UPDATE SET {updates}")
         conn.executemany(sql, values)
         written += len(rows)
     conn.executemany("INSERT OR IGNORE INTO conflicts VALUES (?,?,?,?,?,?,?,?,?)", conflict_rows)

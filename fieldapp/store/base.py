@@ -20,16 +20,20 @@ from typing import Any
 
 from sqlite_utils import Database
 
-try:  # orjson encodes journal values several times faster than the standard library
+try:  # orjson encodes and decodes journal values several times faster than the standard library
     import orjson
 
     def dumps(value: Any) -> str:
         """Compact JSON text of a journal value."""
         return orjson.dumps(value).decode()
+
+    loads = orjson.loads
 except ImportError:  # pragma: no cover - orjson is a declared dependency
     def dumps(value: Any) -> str:
         """Compact JSON text of a journal value."""
         return json.dumps(value, separators=(",", ":"))
+
+    loads = json.loads
 
 from fieldapp.store.clock import HybridClock, Stamp
 from fieldapp.store.schema import migrate
