@@ -40,6 +40,18 @@ def to_csv(rows: Iterable[dict[str, Any]], columns: Sequence[str]) -> str:
     writer = csv.writer(out, lineterminator="\n")
     writer.writerow(columns)
     for row in rows:
-        writer.writerow(["true" if row[c] is True else "false" if row[c] is False else
-                         "" if row[c] is None else row[c] for c in columns])
+        writer.writerow([cell(row[c]) for c in columns])
     return out.getvalue()
+
+
+def cell(value: Any) -> Any:
+    """A CSV cell: true/false for booleans, empty for None, floats to 6 significant figures."""
+    if value is True:
+        return "true"
+    if value is False:
+        return "false"
+    if value is None:
+        return ""
+    if isinstance(value, float):
+        return f"{value:.6g}"
+    return value

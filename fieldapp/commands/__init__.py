@@ -4,10 +4,17 @@ from __future__ import annotations
 
 import argparse
 
-from fieldapp.commands import estimate_cmds, evidence_cmds, records_cmds, rules_cmds, sync_cmds
+from fieldapp.commands import (
+    estimate_cmds,
+    evidence_cmds,
+    records_cmds,
+    report_cmds,
+    rules_cmds,
+    sync_cmds,
+)
 
 
 def register(sub: argparse._SubParsersAction) -> None:
     """Add every sub-command to the parser."""
-    for module in (records_cmds, rules_cmds, estimate_cmds, evidence_cmds, sync_cmds):
+    for module in (records_cmds, rules_cmds, estimate_cmds, evidence_cmds, sync_cmds, report_cmds):
         module.register(sub)

@@ -27,7 +27,8 @@ def leak_input(row: dict[str, Any]) -> LeakInput:
 SELECT = LEAK_SELECT.replace("s.timezone,", "s.timezone, s.methane_mole_fraction, s.methane_weight_fraction,")
 
 
-def leak_rows(store: Store, site_id: str | None = None, leak_id: str | None = None) -> list[dict[str, Any]]:
+def leak_rows(store: Store, site_id: str | None = None, leak_id: str | None = None,
+              survey_id: str | None = None) -> list[dict[str, Any]]:
     """Leak rows with everything an estimate needs, plus the date of the site's previous survey."""
     sql = SELECT.replace("FROM leaks l", ", (SELECT MAX(p.started_at) FROM surveys p WHERE p.site_id = v.site_id "
                          "AND p.deleted = 0 AND p.started_at < v.started_at) AS previous_survey_at FROM leaks l")
@@ -38,7 +39,10 @@ def leak_rows(store: Store, site_id: str | None = None, leak_id: str | None = No
     if leak_id:
         sql += " AND l.id = ?"
         params.append(leak_id)
-    return store.rows(sql, params)
+    if survey_id:
+        sql += " AND l.survey_id = ?"
+        params.append(survey_id)
+    return store.rows(sql + " ORDER BY s.name, l.detected_at, c.tag", params)
 
 
 def estimate_leak(store: Store, leak_id: str) -> Estimate:

@@ -1,0 +1,125 @@
+"""Shared PDF layout: page template with header, page numbers ("page N of M") and the data fingerprint."""
+
+from __future__ import annotations
+
+from reportlab.graphics.charts.barcharts import HorizontalBarChart
+from reportlab.graphics.shapes import Drawing, String
+from reportlab.lib import colors
+from reportlab.lib.pagesizes import LETTER
+from reportlab.lib.styles import ParagraphStyle, getSampleStyleSheet
+from reportlab.lib.units import mm
+from reportlab.pdfgen import canvas
+from reportlab.platypus import Paragraph, Table, TableStyle
+
+PAGE = LETTER
+MARGIN = 16 * mm
+INK = colors.HexColor("#1b1f24")
+RULE = colors.HexColor("#8a939c")
+SHADE = colors.HexColor("#eef1f4")
+ALERT = colors.HexColor("#b3261e")
+
+_base = getSampleStyleSheet()
+STYLES = {
+    "title": ParagraphStyle("title", parent=_base["Title"], fontSize=17, leading=21, alignment=0, spaceAfter=4),
+    "h2": ParagraphStyle("h2", parent=_base["Heading2"], fontSize=12.5, leading=15, spaceBefore=8, spaceAfter=4),
+    "h3": ParagraphStyle("h3", parent=_base["Heading3"], fontSize=10.5, leading=13, spaceBefore=4, spaceAfter=2),
+    "body": ParagraphStyle("body", parent=_base["BodyText"], fontSize=9, leading=11.5),
+    "small": ParagraphStyle("small", parent=_base["BodyText"], fontSize=7.5, leading=9.5, textColor=RULE),
+    "cell": ParagraphStyle("cell", parent=_base["BodyText"], fontSize=8, leading=10),
+    "caution": ParagraphStyle("caution", parent=_base["BodyText"], fontSize=8.5, leading=11, leftIndent=6,
+                              borderColor=ALERT, borderWidth=0.8, borderPadding=5, spaceBefore=4, spaceAfter=6),
+    "hazard": ParagraphStyle("hazard", parent=_base["BodyText"], fontSize=9, leading=11.5, textColor=ALERT),
+}
+
+
+def para(text: str, style: str = "body") -> Paragraph:
+    """A paragraph with the text escaped for reportlab's mini-markup."""
+    safe = str(text).replace("&", "&amp;").replace("<", "&lt;").replace(">", "&gt;")
+    return Paragraph(safe, STYLES[style])
+
+
+def grid(rows: list[list], widths: list[float], header: bool = True) -> Table:
+    """A table with light rules; cells that are strings become wrapped paragraphs."""
+    data = [[para(c, "cell") if isinstance(c, str) else c for c in row] for row in rows]
+    table = Table(data, colWidths=widths, repeatRows=1 if header else 0)
+    style = [("GRID", (0, 0), (-1, -1), 0.3, RULE), ("VALIGN", (0, 0), (-1, -1), "TOP"),
+             ("TOPPADDING", (0, 0), (-1, -1), 2), ("BOTTOMPADDING", (0, 0), (-1, -1), 2)]
+    if header:
+        style.append(("BACKGROUND", (0, 0), (-1, 0), SHADE))
+    table.setStyle(TableStyle(style))
+    return table
+
+
+def fields(pairs: list[tuple[str, str]], width: float) -> Table:
+    """Label/value pairs in two columns of pairs."""
+    rows, row = [], []
+    for label, value in pairs:
+        row += [para(label, "small"), para(value or "-", "cell")]
+        if len(row) == 4:
+            rows.append(row)
+            row = []
+    if row:
+        rows.append(row + ["", ""])
+    quarter = width / 4
+    table = Table(rows, colWidths=[quarter * 0.6, quarter * 1.4, quarter * 0.6, quarter * 1.4])
+    table.setStyle(TableStyle([("VALIGN", (0, 0), (-1, -1), "TOP"), ("LINEBELOW", (0, 0), (-1, -1), 0.2, SHADE)]))
+    return table
+
+
+def bar_chart(title: str, values: dict[str, float], unit: str, width: float, fmt: str = "%g") -> Drawing:
+    """A horizontal bar chart with one bar per category and its value printed at the bar's end."""
+    names = list(values) or ["(none)"]
+    numbers = [values[n] for n in values] or [0]
+    height = 34 + 16 * len(names)
+    drawing = Drawing(width, height)
+    chart = HorizontalBarChart()
+    chart.x, chart.y, chart.width, chart.height = 120, 10, width - 190, height - 34
+    chart.data = [numbers]
+    chart.categoryAxis.categoryNames = [n.replace("_", " ") for n in names]
+    chart.categoryAxis.labels.fontSize = 7.5
+    chart.categoryAxis.reverseDirection = True
+    chart.valueAxis.valueMin = 0
+    if fmt == "%.0f":  # counts: whole-number ticks
+        chart.valueAxis.valueStep = max(1, int(max(numbers) // 6) or 1)
+    chart.valueAxis.labels.fontSize = 7
+    chart.bars[0].fillColor = colors.HexColor("#3d6b8c")
+    chart.barLabelFormat = fmt
+    chart.barLabels.fontSize = 7
+    chart.barLabels.boxAnchor = "w"
+    chart.barLabels.dx = 3
+    drawing.add(chart)
+    drawing.add(String(0, height - 12, f"{title} ({unit})", fontName="Helvetica-Bold", fontSize=9))
+    return drawing
+
+
+def numbered_canvas(header: str, fingerprint: str, page: tuple[float, float] = PAGE):
+    """A canvas class that writes the header, 'page N of M' and the fingerprint on every page."""
+
+    class NumberedCanvas(canvas.Canvas):
+        def __init__(self, *args, **kwargs):
+            super().__init__(*args, **kwargs)
+            self._pages: list[dict] = []
+
+        def showPage(self):  # noqa: N802 - reportlab's name
+            self._pages.append(dict(self.__dict__))
+            self._startPage()
+
+        def save(self):
+            total = len(self._pages)
+            for state in self._pages:
+                self.__dict__.update(state)
+                self._decorate(total)
+                super().showPage()
+            super().save()
+
+        def _decorate(self, total: int) -> None:
+            w, h = page
+            self.setFont("Helvetica", 7.5)
+            self.setFillColor(RULE)
+            self.drawString(MARGIN, h - 10 * mm, header)
+            self.drawRightString(w - MARGIN, 9 * mm, f"page {self._pageNumber} of {total}")
+            self.drawString(MARGIN, 9 * mm, f"data fingerprint SHA-256 {fingerprint}")
+            self.setStrokeColor(SHADE)
+            self.line(MARGIN, h - 11.5 * mm, w - MARGIN, h - 11.5 * mm)
+
+    return NumberedCanvas
