@@ -85,7 +85,8 @@ def component_table(store: Store, site_id: str | None = None):
         "SELECT c.*, c.id AS component_id, s.name AS site FROM components c JOIN sites s ON s.id = c.site_id "
         f"WHERE c.deleted = 0 {where} ORDER BY s.name, c.tag", (site_id,) if site_id else ())
     for r in rows:
-        r["difficult_to_monitor"], r["unsafe_to_monitor"] = bool(r["difficult_to_monitor"]), bool(r["unsafe_to_monitor"])
+        r["difficult_to_monitor"] = bool(r["difficult_to_monitor"])
+        r["unsafe_to_monitor"] = bool(r["unsafe_to_monitor"])
     return rows
 
 

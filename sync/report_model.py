@@ -217,7 +217,8 @@ def period_report(store: Store, start: date, end: date, site_id: str | None = No
         surveys = [r["started_at"][:10] + " " + r["method"] for r in store.rows(
             "SELECT started_at, method FROM surveys WHERE site_id = ? AND deleted = 0 AND substr(started_at, 1, 10) "
             "BETWEEN ? AND ? ORDER BY started_at", (site["id"], start.isoformat(), end.isoformat()))]
-        overdue = [f"{i.kind} {i.tag or i.method} due {i.due}" for i in due if i.site_id == site["id"] and i.overdue(end)]
+        overdue = [f"{i.kind} {i.tag or i.method} due {i.due}" for i in due
+                   if i.site_id == site["id"] and i.overdue(end)]
         missed = [f"{i.method} survey due by {i.due}" for i in due
                   if i.site_id == site["id"] and i.kind == "survey" and i.overdue(end)]
         total = emissions.by_site.get(site["name"])
