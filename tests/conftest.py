@@ -72,3 +72,7 @@ def site(store):
     from fieldapp.store import ops
 
     return ops.add_site(store, SITE)
+
+import logging  # noqa: E402
+
+logging.getLogger("PIL").setLevel(logging.WARNING)

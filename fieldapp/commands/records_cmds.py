@@ -45,6 +45,7 @@ def register(sub: argparse._SubParsersAction) -> None:
     c.add_argument("file", type=Path)
     c.add_argument("--site", required=True, help="site id or name")
     c.set_defaults(handler=cmd_import_components)
+    register_app(sub)
 
 
 def cmd_init(args: argparse.Namespace) -> int:
@@ -169,3 +170,40 @@ def cmd_import_components(args: argparse.Namespace) -> int:
     count = import_components(store, args.file, site["id"], args.actor)
     print(f"imported {count} components into {site['name']}")
     return 0
+
+
+def register_app(sub: argparse._SubParsersAction) -> None:
+    """Add the `app` command."""
+    p = sub.add_parser("app", help="open the tablet app")
+    p.add_argument("--screen", default="start", help="start, site, survey, survey_run, leak, repair, due, export")
+    p.add_argument("--screenshot", type=Path, help="render the screen offscreen to this PNG and exit")
+    p.add_argument("--size", default="1280x800", help="window size for --screenshot, e.g. 800x1280")
+    p.set_defaults(handler=cmd_app)
+
+
+SCREEN_CHOICES = ("start", "site", "survey", "survey_run", "leak", "repair", "due", "export")
+
+
+def cmd_app(args: argparse.Namespace) -> int:
+    from fieldapp.core.fields import FieldProblem, ValidationError
+
+    if args.screen not in SCREEN_CHOICES:
+        raise ValidationError([FieldProblem("screen", f"{args.screen!r} is not allowed; allowed: "
+                                            f"{', '.join(SCREEN_CHOICES)}")])
+    if args.screenshot:
+        try:
+            width, height = (int(v) for v in args.size.lower().split("x"))
+        except ValueError:
+            raise ValidationError([FieldProblem("size", "write WIDTHxHEIGHT, e.g. 1280x800")]) from None
+        os.environ.setdefault("SDL_VIDEODRIVER", "offscreen" if not has_display() else "")
+        os.environ.update(KCFG_GRAPHICS_WIDTH=str(width), KCFG_GRAPHICS_HEIGHT=str(height), KIVY_NO_ARGS="1",
+                          KIVY_NO_CONFIG="1", KIVY_NO_FILELOG="1")
+        os.environ.setdefault("KIVY_WINDOW", "sdl2")
+    elif not has_display():
+        print("no display found: use --screenshot OUT.png to render a screen offscreen")
+        return 0
+    from fieldapp.ui.app import run_app
+
+    store = open_store(args)
+    store.close()
+    return run_app(args.db, args.screen, args.screenshot)

@@ -1,0 +1,1 @@
+"""The Kivy tablet app (the only package that imports Kivy)."""

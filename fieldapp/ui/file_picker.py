@@ -1,0 +1,62 @@
+"""Popups for picking an image file and for taking a camera still."""
+
+from __future__ import annotations
+
+import io
+from pathlib import Path
+
+from kivy.uix.boxlayout import BoxLayout
+from kivy.uix.button import Button
+from kivy.uix.filechooser import FileChooserListView
+from kivy.uix.popup import Popup
+
+from fieldapp.ui import theme
+
+PATTERNS = ["*.jpg", "*.jpeg", "*.JPG", "*.JPEG", "*.png", "*.PNG", "*.tif", "*.tiff", "*.mp4", "*.MP4", "*.mov"]
+
+
+def pick_file(start: Path, done) -> None:
+    """A full-screen file chooser; calls ``done(path or None)``."""
+    box = BoxLayout(orientation="vertical", spacing=theme.GAP)
+    chooser = FileChooserListView(path=str(start), filters=PATTERNS, font_size=theme.FONT)
+    buttons = BoxLayout(size_hint_y=None, height=theme.TOUCH, spacing=theme.GAP)
+    popup = Popup(title="Import a photo or clip", content=box, size_hint=(0.95, 0.95), title_size=theme.FONT_BIG)
+    use = Button(text="Use this file", font_size=theme.FONT, background_color=theme.ACTION)
+    cancel = Button(text="Cancel", font_size=theme.FONT)
+
+    def finish(path):
+        popup.dismiss()
+        done(path)
+
+    use.bind(on_release=lambda *_: finish(chooser.selection[0] if chooser.selection else None))
+    cancel.bind(on_release=lambda *_: finish(None))
+    buttons.add_widget(cancel)
+    buttons.add_widget(use)
+    box.add_widget(chooser)
+    box.add_widget(buttons)
+    popup.open()
+
+
+def camera_popup(done) -> None:
+    """A live camera view with a big capture button; calls ``done(jpeg bytes or None, name)``."""
+    from kivy.uix.camera import Camera
+    from PIL import Image
+
+    box = BoxLayout(orientation="vertical", spacing=theme.GAP)
+    cam = Camera(play=True)
+    popup = Popup(title="Take a photo", content=box, size_hint=(0.95, 0.95))
+    shoot = Button(text="Take photo", font_size=theme.FONT_BIG, size_hint_y=None, height=theme.TOUCH * 1.3)
+
+    def capture(*_):
+        texture = cam.texture
+        img = Image.frombytes("RGBA", texture.size, texture.pixels).transpose(Image.Transpose.FLIP_TOP_BOTTOM)
+        out = io.BytesIO()
+        img.convert("RGB").save(out, "JPEG", quality=92)
+        cam.play = False
+        popup.dismiss()
+        done(out.getvalue(), "camera.jpg")
+
+    shoot.bind(on_release=capture)
+    box.add_widget(cam)
+    box.add_widget(shoot)
+    popup.open()

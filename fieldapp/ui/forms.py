@@ -1,0 +1,113 @@
+"""Forms built from field specs: inputs with numeric keyboards for numbers, choices as big spinners,
+problems shown at their field, and every change reported so drafts can be saved as the user types."""
+
+from __future__ import annotations
+
+from collections.abc import Callable, Sequence
+from dataclasses import dataclass
+from typing import Any
+
+from kivy.uix.gridlayout import GridLayout
+from kivy.uix.spinner import Spinner
+from kivy.uix.textinput import TextInput
+from kivy.uix.togglebutton import ToggleButton
+
+from fieldapp.core.fields import FieldProblem
+from fieldapp.ui import theme
+from fieldapp.ui.widgets import FieldRow
+
+
+@dataclass(frozen=True)
+class Spec:
+    """One field of a form."""
+
+    name: str
+    label: str
+    kind: str = "text"  # text, number, choice, flag, date, long
+    choices: Sequence[str] = ()
+    required: bool = False
+
+
+class Form(GridLayout):
+    """A grid of FieldRows (one or two columns, by window width)."""
+
+    def __init__(self, specs: Sequence[Spec], on_change: Callable[[], None] | None = None, **kwargs):
+        super().__init__(cols=2, spacing=(theme.GAP * 2, theme.GAP), size_hint_y=None, **kwargs)
+        self.bind(minimum_height=self.setter("height"))
+        self.specs = list(specs)
+        self.on_change = on_change
+        self.rows_by_name: dict[str, FieldRow] = {}
+        self._loading = False
+        for spec in self.specs:
+            row = FieldRow(label=spec.label, required=spec.required, name=spec.name)
+            row.set_widget(self._input(spec))
+            self.rows_by_name[spec.name] = row
+            self.add_widget(row)
+
+    def _input(self, spec: Spec):
+        if spec.kind == "choice":
+            w = Spinner(text=spec.choices[0] if spec.required and spec.choices else "", values=list(spec.choices),
+                        font_size=theme.FONT, background_normal="", background_color=(0.86, 0.88, 0.9, 1),
+                        color=theme.INK, option_cls="ChoiceOption")
+            w.bind(text=lambda *_: self._changed())
+            return w
+        if spec.kind == "flag":
+            w = ToggleButton(text="no", font_size=theme.FONT, background_normal="", background_down="",
+                             background_color=(0.86, 0.88, 0.9, 1), color=theme.INK)
+            w.bind(state=lambda btn, state: (setattr(btn, "text", "YES" if state == "down" else "no"),
+                                             setattr(btn, "background_color", theme.SELECTED if state == "down"
+                                                     else (0.86, 0.88, 0.9, 1)), self._changed()))
+            return w
+        numeric = spec.kind == "number"
+        w = TextInput(multiline=False, font_size=theme.FONT, input_filter="float" if numeric else None,
+                      input_type="number" if numeric else "text", write_tab=False, padding=(12, 14),
+                      hint_text="YYYY-MM-DD" if spec.kind == "date" else "")
+        w.bind(text=lambda *_: self._changed())
+        return w
+
+    def _changed(self) -> None:
+        if not self._loading and self.on_change:
+            self.on_change()
+
+    def widget(self, name: str):
+        """The input widget of a field."""
+        return self.rows_by_name[name].widget
+
+    def values(self) -> dict[str, Any]:
+        """Current values by field name (flags as booleans, blanks as None)."""
+        out: dict[str, Any] = {}
+        for spec in self.specs:
+            w = self.widget(spec.name)
+            if spec.kind == "flag":
+                out[spec.name] = w.state == "down"
+            else:
+                out[spec.name] = w.text.strip() or None
+        return out
+
+    def set_values(self, values: dict[str, Any]) -> None:
+        """Fill the form (without reporting changes)."""
+        self._loading = True
+        try:
+            for spec in self.specs:
+                if spec.name not in values:
+                    continue
+                w, value = self.widget(spec.name), values[spec.name]
+                if spec.kind == "flag":
+                    w.state = "down" if value else "normal"
+                else:
+                    w.text = "" if value is None else str(value)
+        finally:
+            self._loading = False
+
+    def show_problems(self, problems: Sequence[FieldProblem]) -> list[str]:
+        """Show each problem under its field; returns those that belong to no field of this form."""
+        for row in self.rows_by_name.values():
+            row.problem = ""
+        elsewhere = []
+        for p in problems:
+            row = self.rows_by_name.get(p.field)
+            if row is None:
+                elsewhere.append(str(p))
+            else:
+                row.problem = p.message if not row.problem else row.problem + "; " + p.message
+        return elsewhere

@@ -1,0 +1,241 @@
+"""Leak: the tag (from the inventory or new on the spot), type and service, photos with a tap to mark
+the leak, an optional screening value or measured rate, the estimate shown live with its basis, and
+a hazard flag that shows the caution and defers to the site's emergency procedures."""
+
+from __future__ import annotations
+
+import hashlib
+from datetime import UTC, datetime
+
+from kivy.graphics import Color, Line
+from kivy.properties import ListProperty
+from kivy.uix.boxlayout import BoxLayout
+from kivy.uix.image import Image
+
+from fieldapp import catalog
+from fieldapp.atomic import write_bytes
+from fieldapp.core.enums import ComponentType, Service, SurveyMethod
+from fieldapp.core.estimate import EstimateError, LeakInput, co2e, estimate
+from fieldapp.core.fields import FieldProblem, ValidationError
+from fieldapp.evidence.ingest import add_media, library
+from fieldapp.evidence.probe import probe
+from fieldapp.store import ops
+from fieldapp.ui import theme
+from fieldapp.ui.forms import Form, Spec
+from fieldapp.ui.screens.form_base import FormScreen
+from fieldapp.ui.widgets import Banner, BigButton, Para, QuietButton
+
+UNITS = ("", "kg/h", "lb/h", "scf/h", "m3/h")
+
+
+class MarkImage(Image):
+    """A photo the technician taps to mark where the leak is; the mark is drawn over it."""
+
+    marker = ListProperty([])  # [x, y] normalised from the top-left, or []
+
+    def __init__(self, on_mark=None, **kwargs):
+        super().__init__(fit_mode="contain", **kwargs)
+        self.on_mark = on_mark
+        self.bind(pos=self._draw, size=self._draw, marker=self._draw, texture=self._draw)
+
+    def image_box(self) -> tuple[float, float, float, float]:
+        w, h = self.norm_image_size
+        return self.center_x - w / 2, self.center_y - h / 2, w, h
+
+    def on_touch_down(self, touch):
+        if not self.texture or not self.collide_point(*touch.pos):
+            return super().on_touch_down(touch)
+        x0, y0, w, h = self.image_box()
+        nx, ny = (touch.x - x0) / w, 1 - (touch.y - y0) / h
+        if 0 <= nx <= 1 and 0 <= ny <= 1:
+            self.marker = [round(nx, 4), round(ny, 4)]
+            if self.on_mark:
+                self.on_mark(self.marker)
+        return True
+
+    def _draw(self, *_):
+        self.canvas.after.clear()
+        if not self.marker or not self.texture:
+            return
+        x0, y0, w, h = self.image_box()
+        cx, cy = x0 + self.marker[0] * w, y0 + (1 - self.marker[1]) * h
+        r = max(18, min(w, h) / 12)
+        with self.canvas.after:
+            Color(0, 0, 0, 1)
+            Line(circle=(cx, cy, r), width=5)
+            Color(1, 1, 1, 1)
+            Line(circle=(cx, cy, r), width=2.5)
+            Line(points=[cx - r * 1.7, cy, cx - r * 0.6, cy], width=2)
+            Line(points=[cx + r * 0.6, cy, cx + r * 1.7, cy], width=2)
+
+
+class LeakScreen(FormScreen):
+    """Record a new leak in the current survey."""
+
+    def draft_key(self) -> str:
+        return f"leak:{self.app.survey_id}" if self.app.survey_id else ""
+
+    def draft_payload(self) -> dict:
+        return {**self.form.values(), "pending": self.pending}
+
+    def refresh(self) -> None:
+        survey = self.store.get("surveys", self.app.survey_id)
+        self.site = self.store.get("sites", survey["site_id"])
+        self.survey = survey
+        self.pending: list[dict] = []
+        self.title = f"New leak - {self.site['name']}"
+        body = self.ids.body
+        body.clear_widgets()
+        self.hazard_banner = Banner(text="", fill=theme.DANGER, shown=False)
+        body.add_widget(self.hazard_banner)
+        self.form = Form([
+            Spec("tag", "Component tag (existing or new)", "text", required=True),
+            Spec("type", "Component type", "choice", tuple(t.value for t in ComponentType), True),
+            Spec("service", "Service", "choice", tuple(s.value for s in Service), True),
+            Spec("location_note", "Where on the component", "text"),
+            Spec("screening_ppm", "Screening value (ppm, Method 21)", "number"),
+            Spec("measured_rate", "Measured rate", "number"),
+            Spec("measured_unit", "Unit of the measured rate", "choice", UNITS),
+            Spec("measured_instrument", "Measuring instrument", "text"),
+            Spec("hazard", "Hazard: large, near ignition, or may carry H2S", "flag"),
+            Spec("hazard_note", "Hazard note", "text"),
+        ], on_change=self.form_changed)
+        self.tag_note = Para(text="", color=theme.MUTED)
+        body.add_widget(self.tag_note)
+        body.add_widget(self.form)
+        self.estimate_label = Para(text="")
+        body.add_widget(self.estimate_label)
+        sources = BoxLayout(size_hint_y=None, height=theme.TOUCH, spacing=theme.GAP)
+        for source in self.app.sources:
+            button = QuietButton(text=f"Photo: {source.name}")
+            button.bind(on_release=lambda _b, s=source: s.take(self.got_photo))
+            sources.add_widget(button)
+        body.add_widget(sources)
+        self.photo_note = Para(text="No photo yet. Take or import one, then tap the leak on it.", color=theme.MUTED)
+        body.add_widget(self.photo_note)
+        self.photo = MarkImage(on_mark=self.marked, size_hint_y=None, height=0)
+        body.add_widget(self.photo)
+        self.ids.actions.clear_widgets()
+        cancel = QuietButton(text="Cancel", size_hint_x=0.3)
+        cancel.bind(on_release=lambda *_: self.app.go_back())
+        save = BigButton(text="Save leak")
+        save.bind(on_release=lambda *_: self.do_save())
+        self.ids.actions.add_widget(cancel)
+        self.ids.actions.add_widget(save)
+        self.say("")
+        draft = self.restore_draft()
+        if draft:
+            for item in draft.get("pending", []):
+                self._show_pending(item)
+        self.form_changed(save=False)
+
+    # -- photos ---------------------------------------------------------------------------------
+    def got_photo(self, data: bytes | None, name: str) -> None:
+        if not data:
+            return
+        try:
+            found = probe(data, name)
+        except ValidationError as exc:
+            self.say(str(exc), "error")
+            return
+        sha = hashlib.sha256(data).hexdigest()
+        path = library(self.store).root / "pending" / f"{sha}-{name}"
+        write_bytes(path, data)  # kept on disk so a killed app keeps the photo with the draft
+        item = {"path": str(path), "name": name, "marker": [], "kind": found.media_kind}
+        self.pending.append(item)
+        self._show_pending(item)
+        self.changed()
+
+    def _show_pending(self, item: dict) -> None:
+        if item not in self.pending:
+            self.pending.append(item)
+        if item["kind"] == "photo":
+            self.photo.source = item["path"]
+            self.photo.height = theme.TOUCH * 6
+            self.photo.marker = item.get("marker") or []
+        self.photo_note.text = (f"{len(self.pending)} photo(s)/clip(s) ready. Tap the photo where the leak is."
+                                if not self.photo.marker else "Leak marked on the photo. Tap again to move it.")
+
+    def marked(self, marker: list[float]) -> None:
+        photos = [p for p in self.pending if p["kind"] == "photo"]
+        if photos:
+            photos[-1]["marker"] = list(marker)
+        self.photo_note.text = "Leak marked on the photo. Tap again to move it."
+        self.changed()
+
+    # -- live feedback --------------------------------------------------------------------------
+    def form_changed(self, save: bool = True) -> None:
+        values = self.form.values()
+        tag = (values.get("tag") or "").strip()
+        known = self.store.rows("SELECT type, service FROM components WHERE site_id = ? AND tag = ? AND deleted = 0",
+                                (self.site["id"], tag)) if tag else []
+        if known:
+            self.tag_note.text = f"{tag}: in the inventory ({known[0]['type']}, {known[0]['service']})"
+            if self.form.widget("type").text != known[0]["type"]:
+                self.form.set_values({"type": known[0]["type"], "service": known[0]["service"]})
+        else:
+            self.tag_note.text = f"{tag}: new tag - it will be added to the inventory" if tag else ""
+        hazard = values.get("hazard")
+        self.hazard_banner.text = ("CAUTION - hazardous leak. Keep clear, follow the site's emergency procedures "
+                                   f"and the permit. {self.site['emergency_note']}") if hazard else ""
+        self.hazard_banner.shown = bool(hazard)
+        self.estimate_label.text = self.live_estimate(values)
+        if save:
+            self.changed()
+
+    def live_estimate(self, values: dict) -> str:
+        """The estimate the record would get, with its basis, or why there is none yet."""
+        try:
+            leak = LeakInput(
+                ComponentType(values["type"]), Service(values["service"]), self.site["methane_mole_fraction"],
+                self.site["methane_weight_fraction"], SurveyMethod(self.survey["method"]),
+                float(values["screening_ppm"]) if values.get("screening_ppm") else None, None,
+                float(values["measured_rate"]) if values.get("measured_rate") else None,
+                values.get("measured_unit") or "")
+            book = catalog.factor_book()
+            result = estimate(leak, book)
+            h = co2e(result.methane_kg_per_h, book, "ar5")
+        except (EstimateError, ValueError, KeyError, TypeError) as exc:
+            return f"[b]Estimate:[/b] not yet ({exc})"
+        return (f"[b]Estimate: {result.methane_kg_per_h:.3g} kg CH4/h[/b]  (CO2e {h[100]:.3g} kg/h 100-yr, "
+                f"{h[20]:.3g} kg/h 20-yr)\nbasis: {result.basis.replace('_', ' ')} - {result.factor_row} - "
+                "an engineering estimate")
+
+    # -- save -----------------------------------------------------------------------------------
+    def do_save(self) -> None:
+        values = self.form.values()
+        tag = (values.pop("tag") or "").strip()
+        if not tag:
+            self.form.show_problems([FieldProblem("tag", "is required")])
+            self.say("Not saved: the tag is required.", "error")
+            return
+        leak_values = {k: v for k, v in values.items() if k not in ("type", "service") and v not in (None, "")}
+        leak_values.update(survey_id=self.survey["id"],
+                           detected_at=datetime.fromtimestamp(self.store.wall(), UTC).astimezone().isoformat())
+        known = self.store.rows("SELECT id FROM components WHERE site_id = ? AND tag = ? AND deleted = 0",
+                                (self.site["id"], tag))
+        new_component = None
+        if known:
+            leak_values["component_id"] = known[0]["id"]
+        else:
+            new_component = {"tag": tag, "type": values.get("type"), "service": values.get("service")}
+        try:
+            leak = ops.add_leak(self.store, leak_values, new_component, actor=self.survey["operator"])
+        except ValidationError as exc:
+            rest = self.form.show_problems(exc.problems)
+            self.say("Not saved: fix the fields marked in red." + (" " + "; ".join(rest) if rest else ""), "error")
+            return
+        problems = []
+        for item in self.pending:
+            data = open(item["path"], "rb").read()
+            marks = [(item["marker"][0], item["marker"][1], tag)] if item.get("marker") else []
+            try:
+                add_media(self.store, leak.id, data, item["name"], marks, actor=self.survey["operator"])
+            except ValidationError as exc:
+                problems.append(str(exc))
+        self.drop_draft()
+        self.app.leak_id = leak.id
+        self.app.show("survey_run", remember=False)
+        self.app.manager.get_screen("survey_run").say(
+            f"Leak {tag} saved." + (" Photo problems: " + "; ".join(problems) if problems else ""),
+            "warn" if problems else "ok")

@@ -1,0 +1,83 @@
+"""Survey setup: who, which camera, the daily camera check, and the conditions; the program decides
+which fields are required, and the survey cannot start without them."""
+
+from __future__ import annotations
+
+import json
+from datetime import UTC, datetime
+
+from fieldapp import catalog
+from fieldapp.core.enums import CameraCheck, SurveyMethod
+from fieldapp.core.fields import ValidationError
+from fieldapp.store import ops
+from fieldapp.ui.forms import Form, Spec
+from fieldapp.ui.screens.form_base import FormScreen
+from fieldapp.ui.widgets import BigButton, QuietButton
+
+SKY = ("clear", "partly cloudy", "overcast", "haze", "fog", "light rain", "light snow")
+FIELDS = [
+    ("method", "Method", "choice", tuple(m.value for m in SurveyMethod)),
+    ("operator", "Operator (who surveys)", "text", ()),
+    ("qualification", "Qualification / training", "text", ()),
+    ("camera_make", "Camera make", "text", ()),
+    ("camera_model", "Camera model", "text", ()),
+    ("camera_serial", "Camera serial", "text", ()),
+    ("camera_check", "Daily camera check", "choice", tuple(c.value for c in CameraCheck)),
+    ("camera_check_note", "What the check showed (gas, distance, delta-T)", "text", ()),
+    ("ambient_temp_c", "Ambient temperature (°C)", "number", ()),
+    ("wind_speed_m_s", "Wind speed (m/s)", "number", ()),
+    ("wind_max_m_s", "Maximum wind (m/s)", "number", ()),
+    ("sky", "Sky conditions", "choice", SKY),
+    ("areas", "Areas to cover (separate with ;)", "text", ()),
+]
+
+
+class SurveyScreen(FormScreen):
+    """Start a survey at the current site."""
+
+    def draft_key(self) -> str:
+        return f"survey-setup:{self.app.site_id}" if self.app.site_id else ""
+
+    def refresh(self) -> None:
+        site = self.store.get("sites", self.app.site_id)
+        program = catalog.program(site["program_id"])
+        required = set(program.required_survey_fields) | {"method", "operator"}
+        self.title = f"New survey - {site['name']}"
+        self.ids.body.clear_widgets()
+        self.form = Form([Spec(n, label, kind, choices, n in required) for n, label, kind, choices in FIELDS],
+                         on_change=self.changed)
+        self.form.widget("method").text = "ogi"
+        self.form.widget("camera_check").text = "not_done"
+        self.ids.body.add_widget(self.form)
+        self.ids.actions.clear_widgets()
+        cancel = QuietButton(text="Cancel", size_hint_x=0.3)
+        cancel.bind(on_release=lambda *_: self.app.go_back())
+        start = BigButton(text="Start survey")
+        start.bind(on_release=lambda *_: self.do_start())
+        self.ids.actions.add_widget(cancel)
+        self.ids.actions.add_widget(start)
+        self.say("")
+        if not self.restore_draft():
+            last = self.store.rows("SELECT * FROM surveys WHERE site_id = ? AND deleted = 0 ORDER BY started_at DESC "
+                                   "LIMIT 1", (site["id"],))
+            if last:  # the crew and camera rarely change between visits
+                self.form.set_values({k: last[0][k] for k in ("operator", "qualification", "camera_make",
+                                                               "camera_model", "camera_serial")})
+                self.form.set_values({"areas": "; ".join(json.loads(last[0]["areas"]))})
+
+    def do_start(self) -> None:
+        values = {k: v for k, v in self.form.values().items() if v is not None}
+        values["site_id"] = self.app.site_id
+        values["started_at"] = datetime.fromtimestamp(self.store.wall(), UTC).astimezone().isoformat()
+        try:
+            survey, warnings = ops.start_survey(self.store, values, actor=values.get("operator", ""))
+        except ValidationError as exc:
+            rest = self.form.show_problems(exc.problems)
+            self.say("Not started: fix the fields marked in red." + (" " + "; ".join(rest) if rest else ""), "error")
+            return
+        self.drop_draft()
+        self.form.show_problems([])
+        self.app.survey_id = survey.id
+        self.app.show("survey_run")
+        if warnings:
+            self.app.manager.get_screen("survey_run").say("Check conditions: " + "; ".join(warnings), "warn")

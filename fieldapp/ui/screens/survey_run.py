@@ -1,0 +1,95 @@
+"""Survey in progress: areas to check off, leaks found so far, add a leak, end with the deviations
+from the monitoring plan (or the statement that there were none)."""
+
+from __future__ import annotations
+
+from datetime import UTC, datetime
+
+from kivy.uix.gridlayout import GridLayout
+from kivy.uix.togglebutton import ToggleButton
+
+from fieldapp.core.fields import ValidationError
+from fieldapp.store import ops
+from fieldapp.ui import theme
+from fieldapp.ui.forms import Form, Spec
+from fieldapp.ui.screens.form_base import FormScreen
+from fieldapp.ui.widgets import BigButton, Para, QuietButton
+
+
+class SurveyRunScreen(FormScreen):
+    """The survey being done."""
+
+    def draft_key(self) -> str:
+        return f"survey-end:{self.app.survey_id}" if self.app.survey_id else ""
+
+    def draft_payload(self) -> dict:
+        return {**self.form.values(), "areas_done": self.areas_done()}
+
+    def areas_done(self) -> list[str]:
+        return [b.area for b in self.area_buttons if b.state == "down"]
+
+    def refresh(self) -> None:
+        survey = self.store.get("surveys", self.app.survey_id)
+        site = self.store.get("sites", survey["site_id"])
+        self.app.site_id = site["id"]
+        self.title = f"Surveying {site['name']} - {survey['method'].upper()}"
+        body = self.ids.body
+        body.clear_widgets()
+        body.add_widget(Para(text="[b]Areas covered - tap each when done[/b]"))
+        grid = GridLayout(cols=3, spacing=theme.GAP, size_hint_y=None)
+        grid.bind(minimum_height=grid.setter("height"))
+        self.area_buttons = []
+        for area in survey["areas"] or ["whole site"]:
+            b = ToggleButton(text=area, size_hint_y=None, height=theme.TOUCH, font_size=theme.FONT,
+                             background_normal="", background_down="", background_color=(0.86, 0.88, 0.9, 1),
+                             color=theme.INK, state="down" if area in survey["areas_done"] else "normal")
+            b.area = area
+            b.bind(state=self._area_toggled)
+            self.area_buttons.append(b)
+            grid.add_widget(b)
+        body.add_widget(grid)
+        leaks = self.store.rows("SELECT c.tag, c.type, l.hazard FROM leaks l JOIN components c ON c.id = "
+                                "l.component_id WHERE l.survey_id = ? AND l.deleted = 0 ORDER BY l.detected_at",
+                                (survey["id"],))
+        text = "\n".join(f"- {r['tag']} ({r['type'].replace('_', ' ')}){'  HAZARD' if r['hazard'] else ''}"
+                         for r in leaks) or "No leaks recorded yet."
+        body.add_widget(Para(text=f"[b]Leaks found: {len(leaks)}[/b]\n{text}"))
+        self.form = Form([Spec("deviations", "Deviations from the monitoring plan", "text"),
+                          Spec("no_deviations", "There were no deviations", "flag")], on_change=self.changed)
+        body.add_widget(self.form)
+        self.ids.actions.clear_widgets()
+        add = BigButton(text="Add a leak")
+        add.bind(on_release=lambda *_: self.do_add_leak())
+        end = QuietButton(text="End survey", size_hint_x=0.5)
+        end.bind(on_release=lambda *_: self.do_end())
+        self.ids.actions.add_widget(end)
+        self.ids.actions.add_widget(add)
+        draft = self.restore_draft()
+        if draft:
+            for b in self.area_buttons:
+                b.state = "down" if b.area in draft.get("areas_done", []) else b.state
+
+    def _area_toggled(self, button, state) -> None:
+        button.background_color = theme.SELECTED if state == "down" else (0.86, 0.88, 0.9, 1)
+        button.text = f"{button.area}  DONE" if state == "down" else button.area
+        self.changed()
+
+    def do_add_leak(self) -> None:
+        self.save_draft()
+        self.app.leak_id = ""
+        self.app.show("leak")
+
+    def do_end(self) -> None:
+        values = self.form.values()
+        changes = {"ended_at": datetime.fromtimestamp(self.store.wall(), UTC).astimezone().isoformat(),
+                   "areas_done": self.areas_done(), "deviations": values["deviations"] or "",
+                   "no_deviations": values["no_deviations"]}
+        try:
+            ops.end_survey(self.store, self.app.survey_id, changes)
+        except ValidationError as exc:
+            rest = self.form.show_problems(exc.problems)
+            self.say("Not ended: " + "; ".join(rest or ["fix the fields marked in red"]), "error")
+            return
+        self.drop_draft()
+        self.app.show("site", remember=False)
+        self.app.manager.get_screen("site").say("Survey ended and saved.", "ok")

@@ -1,0 +1,223 @@
+"""The tablet app driven through its real widget tree by taps, offscreen (see tests/conftest.py)."""
+
+from __future__ import annotations
+
+import io
+import shutil
+
+import pytest
+from PIL import Image
+
+from tests.conftest import Wall
+
+kivy_window = pytest.importorskip("kivy.core.window")
+
+
+@pytest.fixture(scope="module")
+def window():
+    from kivy.core.window import Window
+
+    assert Window is not None, "no OpenGL window: install libgl1 libegl1 (tests/run.sh does)"
+    return Window
+
+
+def photo_bytes() -> bytes:
+    img = Image.new("RGB", (1200, 900), (30, 20, 80))
+    img.paste((250, 160, 20), (500, 400, 700, 600))
+    out = io.BytesIO()
+    img.save(out, "JPEG")
+    return out.getvalue()
+
+
+@pytest.fixture
+def make_app(window, demo_store, tmp_path):
+    from kivy.base import EventLoop
+
+    from fieldapp.ui.app import PlumebookApp
+    from fieldapp.ui.camera import FakeSource
+
+    path = demo_store.path
+    demo_store.close()
+    apps = []
+
+    def make():
+        app = PlumebookApp(path, sources=[FakeSource(photo_bytes(), "IR_0042.jpg")], animate=False)
+        app._run_prepare()
+        app.store.wall = Wall()
+        apps.append(app)
+        for _ in range(3):
+            EventLoop.idle()
+        return app
+
+    yield make
+    for app in apps:
+        app.stop()
+        for child in list(window.children):
+            window.remove_widget(child)
+
+
+def idle(n=4):
+    from kivy.base import EventLoop
+
+    for _ in range(n):
+        EventLoop.idle()
+
+
+def tap(widget, fx=0.5, fy=0.5):
+    """Touch a widget at a point given as fractions of its size (window coordinates)."""
+    from kivy.tests.common import UnitTestTouch
+    from kivy.uix.scrollview import ScrollView
+
+    parent = widget.parent
+    for _ in range(40):  # the Window is its own parent: walk a bounded number of levels
+        if parent is None or isinstance(parent, ScrollView):
+            break
+        parent = parent.parent
+    else:
+        parent = None
+    if parent is not None:  # bring it into view first, as a finger would
+        parent.scroll_to(widget, padding=10, animate=False)
+    idle(2)
+    x, y = widget.to_window(widget.x + widget.width * fx, widget.y + widget.height * fy)
+    touch = UnitTestTouch(x, y)
+    touch.touch_down()
+    touch.touch_up()
+    idle(3)
+
+
+def button(screen, text):
+    from kivy.uix.button import Button
+
+    found = [w for w in screen.walk() if isinstance(w, Button) and w.text == text]
+    assert found, f"no button {text!r} on {screen.name}"
+    return found[0]
+
+
+def type_into(form, name, text):
+    form.widget(name).text = text
+
+
+def site_id(app, name):
+    return app.store.rows("SELECT id FROM sites WHERE name = ?", (name,))[0]["id"]
+
+
+def fill_survey(form):
+    for name, value in {"operator": "Tap Tester", "qualification": "OGI level 2", "camera_make": "Make",
+                        "camera_model": "Model", "camera_serial": "S-1", "ambient_temp_c": "12",
+                        "wind_speed_m_s": "2", "wind_max_m_s": "3.5", "areas": "north; south"}.items():
+        type_into(form, name, value)
+    form.widget("camera_check").text = "passed"
+    form.widget("sky").text = "clear"
+
+
+def test_start_screen_lists_sites_overdue_first(make_app):
+    app = make_app()
+    rows = app.manager.get_screen("start").ids.sites.data
+    assert len(rows) == 4 and "OVERDUE" in rows[0]["text"]
+
+
+def test_survey_refused_for_a_missing_required_field(make_app):
+    app = make_app()
+    app.site_id = site_id(app, "Orrel Mesa Pad 2")
+    app.show("survey")
+    screen = app.manager.get_screen("survey")
+    fill_survey(screen.form)
+    type_into(screen.form, "ambient_temp_c", "")
+    before = len(app.store.rows("SELECT id FROM surveys"))
+    tap(button(screen, "Start survey"))
+    assert app.manager.current == "survey"
+    assert "required" in screen.form.rows_by_name["ambient_temp_c"].problem
+    assert len(app.store.rows("SELECT id FROM surveys")) == before
+
+
+def test_whole_day_by_taps(make_app):
+    from fieldapp.store.due import due_list
+    from tests.test_due import TODAY
+
+    app = make_app()
+    start = app.manager.get_screen("start")
+    pad = site_id(app, "Orrel Mesa Pad 2")
+    start.pick(pad)
+    assert app.manager.current == "site"
+    tap(button(app.manager.get_screen("site"), "Start a survey here"))
+    survey_screen = app.manager.get_screen("survey")
+    fill_survey(survey_screen.form)
+    tap(button(survey_screen, "Start survey"))
+    assert app.manager.current == "survey_run"
+    survey = app.store.get("surveys", app.survey_id)
+    assert (survey["operator"], survey["camera_check"], survey["wind_max_m_s"]) == ("Tap Tester", "passed", 3.5)
+
+    run = app.manager.get_screen("survey_run")
+    tap(button(run, "Add a leak"))
+    leak_screen = app.manager.get_screen("leak")
+    type_into(leak_screen.form, "tag", "OM2-NEW-1")
+    leak_screen.form.widget("type").text = "connector"
+    type_into(leak_screen.form, "location_note", "union on the dump line")
+    tap(button(leak_screen, "Photo: fake camera"))
+    assert leak_screen.pending and leak_screen.photo.texture is not None
+    idle(3)
+    tap(leak_screen.photo, 0.5, 0.5)
+    assert leak_screen.photo.marker and abs(leak_screen.photo.marker[0] - 0.5) < 0.05
+    assert "Estimate:" in leak_screen.estimate_label.text and "leaker factor" in leak_screen.estimate_label.text
+    tap(button(leak_screen, "Save leak"))
+    assert app.manager.current == "survey_run"
+    leak = app.store.rows("SELECT l.id FROM leaks l JOIN components c ON c.id = l.component_id "
+                          "WHERE c.tag = 'OM2-NEW-1'")[0]
+    media = app.store.rows("SELECT m.id, k.x, k.y, k.label FROM media m JOIN markers k ON k.media_id = m.id "
+                           "WHERE m.leak_id = ?", (leak["id"],))
+    assert len(media) == 1 and media[0]["label"] == "OM2-NEW-1" and abs(media[0]["x"] - 0.5) < 0.05
+
+    due_before = {(i.leak_id, i.kind) for i in due_list(app.store, TODAY)[0]}
+    assert (leak["id"], "first_attempt") in due_before
+    app.leak_id = leak["id"]
+    app.show("repair")
+    repair = app.manager.get_screen("repair")
+    repair.form.widget("kind").text = "first_attempt"
+    type_into(repair.form, "actor", "Tap Tester")
+    tap(button(repair, "Save"))
+    repair.form.widget("kind").text = "repaired"
+    type_into(repair.form, "actor", "Tap Tester")
+    tap(button(repair, "Save"))
+    kinds = [r["kind"] for r in app.store.rows("SELECT kind FROM actions WHERE leak_id = ? ORDER BY seq",
+                                               (leak["id"],))]
+    assert kinds == ["first_attempt", "repaired"]
+    due_after = {(i.leak_id, i.kind) for i in due_list(app.store, TODAY)[0]}
+    assert (leak["id"], "first_attempt") not in due_after and (leak["id"], "resurvey") in due_after
+    app.show("due")
+    rows = app.manager.get_screen("due").ids.due_items.data
+    assert any("resurvey OM2-NEW-1" in r["text"] for r in rows)
+
+
+def test_draft_survives_a_rebuilt_app(make_app, window):
+    app = make_app()
+    app.site_id = site_id(app, "Orrel Mesa Pad 5")
+    app.show("survey")
+    form = app.manager.get_screen("survey").form
+    type_into(form, "operator", "Half Done")
+    type_into(form, "ambient_temp_c", "-3.5")
+    idle(2)
+    app.flush_drafts()  # what on_pause / on_stop do; a killed app keeps what the 0.4 s timer saved
+    app.stop()
+    for child in list(window.children):
+        window.remove_widget(child)
+    again = make_app()
+    again.site_id = site_id(again, "Orrel Mesa Pad 5")
+    again.show("survey")
+    values = again.manager.get_screen("survey").form.values()
+    assert (values["operator"], values["ambient_temp_c"]) == ("Half Done", "-3.5")
+
+
+def test_snapshot_command_writes_a_png(tmp_path, demo_store):
+    import subprocess
+    import sys
+
+    db = tmp_path / "copy.db"
+    demo_store.close()
+    shutil.copy(demo_store.path, db)
+    media = demo_store.path.parent / f"{demo_store.path.stem}-media"
+    shutil.copytree(media, tmp_path / "copy-media")
+    out = tmp_path / "repair.png"
+    result = subprocess.run([sys.executable, "-m", "fieldapp", "--db", str(db), "app", "--screen", "repair",
+                             "--screenshot", str(out), "--size", "800x1280"], capture_output=True, text=True)
+    assert result.returncode == 0, result.stderr[-2000:]
+    assert Image.open(out).size == (800, 1280)
