@@ -64,6 +64,7 @@ class SurveyScreen(FormScreen):
                 self.form.set_values({k: last[0][k] for k in ("operator", "qualification", "camera_make",
                                                                "camera_model", "camera_serial")})
                 self.form.set_values({"areas": "; ".join(json.loads(last[0]["areas"]))})
+            self.mark_pristine()  # prefilled, not typed: leaves no draft
 
     def do_start(self) -> None:
         values = {k: v for k, v in self.form.values().items() if v is not None}
