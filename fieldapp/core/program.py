@@ -256,6 +256,19 @@ def _cited_values(r: _Reader, data: Mapping, path: str) -> dict[str, CitedValue]
     return result
 
 
+def _table_list(r: _Reader, data: Mapping, key: str, read) -> list:
+    """Read an array of tables with ``read(reader, table, path)``, naming each bad entry by index."""
+    out = []
+    for i, sub in enumerate(r.get(data, key, "", list) or []):
+        if not isinstance(sub, dict):
+            r.fail(f"{key}[{i}]", "must be a table")
+            continue
+        found = read(r, sub, f"{key}[{i}].")
+        if found:
+            out.append(found)
+    return out
+
+
 def parse_program(data: Mapping[str, Any]) -> tuple[Program | None, list[FieldProblem]]:
     """Read a program from a plain mapping; returns (program, []) or (None, problems naming keys)."""
     r = _Reader()
@@ -265,22 +278,8 @@ def parse_program(data: Mapping[str, Any]) -> tuple[Program | None, list[FieldPr
         sub = r.get(data, "initial_survey", "", dict)
         if sub is not None:
             initial = r.deadline(sub, "initial_survey", "initial_survey.", ("startup",))
-    inspections = []
-    for i, sub in enumerate(r.get(data, "inspections", "", list) or []):
-        if not isinstance(sub, dict):
-            r.fail(f"inspections[{i}]", "must be a table")
-            continue
-        found = _inspection(r, sub, f"inspections[{i}].")
-        if found:
-            inspections.append(found)
-    tiers = []
-    for i, sub in enumerate(r.get(data, "repair_tiers", "", list) or []):
-        if not isinstance(sub, dict):
-            r.fail(f"repair_tiers[{i}]", "must be a table")
-            continue
-        found = _tier(r, sub, f"repair_tiers[{i}].")
-        if found:
-            tiers.append(found)
+    inspections = _table_list(r, data, "inspections", _inspection)
+    tiers = _table_list(r, data, "repair_tiers", _tier)
     if "repair_tiers" in data and not tiers and not r.problems:
         r.fail("repair_tiers", "at least one tier is required")
     if tiers and all(t.min_ppm is not None for t in tiers):

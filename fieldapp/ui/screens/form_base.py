@@ -71,5 +71,18 @@ class FormScreen(BaseScreen):
         if self.draft_key():
             clear_draft(self.store, self.draft_key())
 
+    def set_actions(self, primary: str, action, cancel: bool = True) -> None:
+        """The bottom bar: an optional Cancel (back) and the screen's main action."""
+        from fieldapp.ui.widgets import BigButton, QuietButton
+
+        self.ids.actions.clear_widgets()
+        if cancel:
+            back = QuietButton(text="Cancel", size_hint_x=0.3)
+            back.bind(on_release=lambda *_: self.app.go_back())
+            self.ids.actions.add_widget(back)
+        main = BigButton(text=primary)
+        main.bind(on_release=lambda *_: action())
+        self.ids.actions.add_widget(main)
+
     def on_leave(self, *args):
         self.save_draft()

@@ -23,7 +23,7 @@ from fieldapp.store import ops
 from fieldapp.ui import theme
 from fieldapp.ui.forms import Form, Spec
 from fieldapp.ui.screens.form_base import FormScreen
-from fieldapp.ui.widgets import Banner, BigButton, Para, QuietButton
+from fieldapp.ui.widgets import Banner, Para, QuietButton
 
 UNITS = ("", "kg/h", "lb/h", "scf/h", "m3/h")
 
@@ -115,13 +115,7 @@ class LeakScreen(FormScreen):
         body.add_widget(self.photo_note)
         self.photo = MarkImage(on_mark=self.marked, size_hint_y=None, height=0)
         body.add_widget(self.photo)
-        self.ids.actions.clear_widgets()
-        cancel = QuietButton(text="Cancel", size_hint_x=0.3)
-        cancel.bind(on_release=lambda *_: self.app.go_back())
-        save = BigButton(text="Save leak")
-        save.bind(on_release=lambda *_: self.do_save())
-        self.ids.actions.add_widget(cancel)
-        self.ids.actions.add_widget(save)
+        self.set_actions("Save leak", self.do_save)
         self.say("")
         draft = self.restore_draft()
         if draft:

@@ -12,7 +12,6 @@ from fieldapp.core.fields import ValidationError
 from fieldapp.store import ops
 from fieldapp.ui.forms import Form, Spec
 from fieldapp.ui.screens.form_base import FormScreen
-from fieldapp.ui.widgets import BigButton, QuietButton
 
 SKY = ("clear", "partly cloudy", "overcast", "haze", "fog", "light rain", "light snow")
 FIELDS = [
@@ -49,13 +48,7 @@ class SurveyScreen(FormScreen):
         self.form.widget("method").text = "ogi"
         self.form.widget("camera_check").text = "not_done"
         self.ids.body.add_widget(self.form)
-        self.ids.actions.clear_widgets()
-        cancel = QuietButton(text="Cancel", size_hint_x=0.3)
-        cancel.bind(on_release=lambda *_: self.app.go_back())
-        start = BigButton(text="Start survey")
-        start.bind(on_release=lambda *_: self.do_start())
-        self.ids.actions.add_widget(cancel)
-        self.ids.actions.add_widget(start)
+        self.set_actions("Start survey", self.do_start)
         self.say("")
         if not self.restore_draft():
             last = self.store.rows("SELECT * FROM surveys WHERE site_id = ? AND deleted = 0 ORDER BY started_at DESC "
