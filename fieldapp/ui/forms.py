@@ -28,6 +28,11 @@ class Spec:
     required: bool = False
 
 
+def label(value: str) -> str:
+    """How a stored spelling reads on screen: 'first_attempt' -> 'first attempt'."""
+    return str(value).replace("_", " ")
+
+
 class Form(GridLayout):
     """A grid of FieldRows (one or two columns, by window width)."""
 
@@ -37,6 +42,7 @@ class Form(GridLayout):
         self.specs = list(specs)
         self.on_change = on_change
         self.rows_by_name: dict[str, FieldRow] = {}
+        self.choice_values: dict[str, dict[str, str]] = {}
         self._loading = False
         for spec in self.specs:
             row = FieldRow(label=spec.label, required=spec.required, name=spec.name)
@@ -46,7 +52,9 @@ class Form(GridLayout):
 
     def _input(self, spec: Spec):
         if spec.kind == "choice":
-            w = Spinner(text=spec.choices[0] if spec.required and spec.choices else "", values=list(spec.choices),
+            labels = [label(c) for c in spec.choices]
+            self.choice_values[spec.name] = dict(zip(labels, spec.choices, strict=True))
+            w = Spinner(text=labels[0] if spec.required and labels else "", values=labels,
                         font_size=theme.FONT, background_normal="", background_color=(0.86, 0.88, 0.9, 1),
                         color=theme.INK, option_cls="ChoiceOption")
             w.bind(text=lambda *_: self._changed())
@@ -80,6 +88,8 @@ class Form(GridLayout):
             w = self.widget(spec.name)
             if spec.kind == "flag":
                 out[spec.name] = w.state == "down"
+            elif spec.kind == "choice":
+                out[spec.name] = self.choice_values[spec.name].get(w.text, w.text) or None
             else:
                 out[spec.name] = w.text.strip() or None
         return out
@@ -94,6 +104,8 @@ class Form(GridLayout):
                 w, value = self.widget(spec.name), values[spec.name]
                 if spec.kind == "flag":
                     w.state = "down" if value else "normal"
+                elif spec.kind == "choice":
+                    w.text = label(value) if value else ""
                 else:
                     w.text = "" if value is None else str(value)
         finally:

@@ -165,7 +165,7 @@ class LeakScreen(FormScreen):
                                 (self.site["id"], tag)) if tag else []
         if known:
             self.tag_note.text = f"{tag}: in the inventory ({known[0]['type']}, {known[0]['service']})"
-            if self.form.widget("type").text != known[0]["type"]:
+            if self.form.values()["type"] != known[0]["type"]:
                 self.form.set_values({"type": known[0]["type"], "service": known[0]["service"]})
         else:
             self.tag_note.text = f"{tag}: new tag - it will be added to the inventory" if tag else ""

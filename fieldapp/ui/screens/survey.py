@@ -45,8 +45,7 @@ class SurveyScreen(FormScreen):
         self.ids.body.clear_widgets()
         self.form = Form([Spec(n, label, kind, choices, n in required) for n, label, kind, choices in FIELDS],
                          on_change=self.changed)
-        self.form.widget("method").text = "ogi"
-        self.form.widget("camera_check").text = "not_done"
+        self.form.set_values({"method": "ogi", "camera_check": "not_done"})
         self.ids.body.add_widget(self.form)
         self.set_actions("Start survey", self.do_start)
         self.say("")
