@@ -44,6 +44,7 @@ class SurveyRunScreen(FormScreen):
                              background_normal="", background_down="", background_color=(0.86, 0.88, 0.9, 1),
                              color=theme.INK, state="down" if area in survey["areas_done"] else "normal")
             b.area = area
+            self._style_area(b)
             b.bind(state=self._area_toggled)
             self.area_buttons.append(b)
             grid.add_widget(b)
@@ -69,9 +70,14 @@ class SurveyRunScreen(FormScreen):
             for b in self.area_buttons:
                 b.state = "down" if b.area in draft.get("areas_done", []) else b.state
 
-    def _area_toggled(self, button, state) -> None:
-        button.background_color = theme.SELECTED if state == "down" else (0.86, 0.88, 0.9, 1)
-        button.text = f"{button.area}  DONE" if state == "down" else button.area
+    @staticmethod
+    def _style_area(button) -> None:
+        done = button.state == "down"
+        button.background_color = theme.SELECTED if done else (0.86, 0.88, 0.9, 1)
+        button.text = f"{button.area}  DONE" if done else button.area
+
+    def _area_toggled(self, button, _state) -> None:
+        self._style_area(button)
         self.changed()
 
     def do_add_leak(self) -> None:
