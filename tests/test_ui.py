@@ -17,7 +17,7 @@ kivy_window = pytest.importorskip("kivy.core.window")
 def window():
     from kivy.core.window import Window
 
-    assert Window is not None, "no OpenGL window: install libgl1 libegl1 (tests/run.sh does)"
+    assert Window is not None, "no OpenGL window: install libgl1 libegl1 (tests/setup.sh does)"
     return Window
 
 
