@@ -3,7 +3,7 @@
 Order of work (so a crash leaves nothing, or a complete original without a row, never a row
 without its file): read and check the bytes; decode the derivatives in memory; write the original
 (temp file, fsync, rename); write the derivatives; then insert the media row and its markers in
-one transaction.
+one transaction. The marked-up copy is drawn right after, so reports only have to place it.
 """
 
 from __future__ import annotations
@@ -63,7 +63,10 @@ def add_media(store: Store, leak_id: str, data: bytes, name: str = "",
         store.insert("media", as_plain(media), actor)
         for point in points:
             store.insert("markers", as_plain(point), actor)
-    return store.get("media", media.id)
+    row = store.get("media", media.id)
+    if points:  # drawn now, while the photo is fresh, so reports only place it
+        ensure(store, row, "marked")
+    return row
 
 
 def add_file(store: Store, leak_id: str, path: Path | str, markers: Sequence[tuple[float, float, str]] = (),
@@ -85,6 +88,7 @@ def add_marker(store: Store, media_id: str, x: float, y: float, label: str = "",
     marker = _parse(Marker, {"id": new_id(), "media_id": media_id, "x": x, "y": y, "label": label})
     with store.transaction():
         store.insert("markers", as_plain(marker), actor)
+    ensure(store, media, "marked")
     return as_plain(marker)
 
 

@@ -86,7 +86,7 @@ def main() -> None:
     print(f"12 MP JPEG, {len(data) / 1e6:.1f} MB")
     print(f"floor (copy + SHA-256 + fsync + draft decode): {floor_s * 1000:.0f} ms")
     print(f"naive (full decode + 2 resizes): {naive_s * 1000:.0f} ms")
-    print(f"plumebook ingest (checks, original, thumb + report copy, row + journal): {ours_s * 1000:.0f} ms")
+    print(f"plumebook ingest (checks, original, thumb + report + marked copy, row + journal): {ours_s * 1000:.0f} ms")
     print(f"ours/floor: {ours_s / floor_s:.2f} (target <= 2.0); naive/ours: {naive_s / ours_s:.2f} (target >= 1.5)")
 
 
