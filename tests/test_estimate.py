@@ -219,3 +219,18 @@ def test_estimate_command(capsys):
     assert out["co2e_kg_per_h"] == pytest.approx(0.1728 * 28)  # AR5 100-yr default [text]
     assert main(["estimate", "--type", "teapot", "--service", "gas"]) == 2
     assert "allowed: valve" in capsys.readouterr().err
+
+
+def test_inventory_estimate_uses_population_factors():
+    from fieldapp.core.estimate import inventory_estimate
+
+    # 40 CFR 98 Table W-1A [text], western gas: valve 0.121, connector 0.017 scf/h per component.
+    # 100 valves + 400 connectors = 12.1 + 6.8 = 18.9 scf/h whole gas; x 0.8 x 0.0192 kg/scf = 0.290304 kg/h
+    counts = {(ComponentType.VALVE, Service.GAS): 100, (ComponentType.CONNECTOR, Service.GAS): 400,
+              (ComponentType.THIEF_HATCH, Service.WATER_OIL): 3}
+    result = inventory_estimate(counts, BOOK, "western", 0.8)
+    assert result.whole_gas_scf_per_h == pytest.approx(18.9)
+    assert result.methane_kg_per_h == pytest.approx(0.290304)
+    assert result.missing == ("3 x thief_hatch in water_oil service",)
+    with pytest.raises(EstimateError, match="region"):
+        inventory_estimate(counts, BOOK, "northern", 0.8)

@@ -182,3 +182,41 @@ def co2e(methane_kg: float, book: FactorBook, gwp_set: str) -> dict[int, float]:
     if not found:
         raise EstimateError("gwp", f"{gwp_set!r} is not allowed; allowed: {', '.join(book.gwp_sets())}")
     return {h: methane_kg * v for h, v in sorted(found.items(), reverse=True)}
+
+
+@dataclass(frozen=True, slots=True)
+class InventoryEstimate:
+    """Population-factor estimate of a whole inventory (never the rate of one leak)."""
+
+    methane_kg_per_h: float
+    whole_gas_scf_per_h: float
+    rows: tuple[tuple[str, str, int, str], ...]
+    missing: tuple[str, ...]
+    assumptions: tuple[str, ...]
+
+
+def inventory_estimate(counts: dict[tuple[ComponentType, Service], int], book: FactorBook, region: str,
+                       methane_mole_fraction: float) -> InventoryEstimate:
+    """Emissions of a component population from subpart W Table W-1A population factors (scf/h each).
+
+    ``region`` is 'eastern' or 'western' for gas service; liquid-service rows apply to any region.
+    Component kinds without a population factor are listed in ``missing``, not guessed.
+    """
+    if region not in ("eastern", "western"):
+        raise EstimateError("region", "allowed: eastern, western")
+    total_scf, rows, missing = 0.0, [], []
+    for (ctype, service), count in sorted(counts.items()):
+        w_component = book.classes[ctype][1]
+        w_service = W_SERVICE.get(service)
+        factor = None
+        if w_service:
+            factor = book.find("population", w_component, w_service, region if w_service == "gas" else "any",
+                               factor_set="w-1a")
+        if factor is None:
+            missing.append(f"{count} x {ctype.value} in {service.value} service")
+            continue
+        total_scf += count * factor.value
+        rows.append((ctype.value, service.value, count, factor.describe()))
+    notes: list[str] = ["population factors estimate an inventory, not the rate of any one leak"]
+    kg = _from_whole_gas(total_scf, LeakInput(ComponentType.OTHER, Service.GAS, methane_mole_fraction), book, notes)
+    return InventoryEstimate(kg, total_scf, tuple(rows), tuple(missing), tuple(notes))
