@@ -74,3 +74,23 @@ def test_db_defaults_to_environment_variable(tmp_path, capsys, monkeypatch):
 def test_module_entry_point_runs():
     result = subprocess.run([sys.executable, "-m", "fieldapp", "--help"], capture_output=True, text=True)
     assert result.returncode == 0 and "plumebook" in result.stdout
+
+
+def test_programs_commands(capsys):
+    assert main(["programs", "--json"]) == 0
+    ids = {p["id"] for p in json.loads(capsys.readouterr().out)}
+    assert {"us-nsps-oooo-a", "us-nsps-oooo-b", "us-method21-process-unit", "us-tx-hrvoc-fugitive",
+            "company-template"} <= ids
+    assert main(["programs", "show", "us-tx-hrvoc-fugitive", "--json"]) == 0
+    shown = json.loads(capsys.readouterr().out)
+    assert shown["repair_tiers"][0]["min_ppm"] == 10000  # 30 TAC 115.782(b) [text]
+    assert main(["programs", "show", "no-such-program"]) == 2
+    assert "known:" in capsys.readouterr().err
+
+
+def test_app_without_display_says_so(tmp_path, capsys, monkeypatch):
+    monkeypatch.delenv("DISPLAY", raising=False)
+    monkeypatch.delenv("WAYLAND_DISPLAY", raising=False)
+    assert main(["--db", str(tmp_path / "a.db"), "app"]) == 0
+    assert "no display" in capsys.readouterr().out
+    assert main(["--db", str(tmp_path / "a.db"), "app", "--screen", "nowhere", "--screenshot", "x.png"]) == 2
