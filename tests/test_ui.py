@@ -146,6 +146,7 @@ def test_whole_day_by_taps(make_app):
     assert app.manager.current == "survey_run"
     survey = app.store.get("surveys", app.survey_id)
     assert (survey["operator"], survey["camera_check"], survey["wind_max_m_s"]) == ("Tap Tester", "passed", 3.5)
+    assert survey["started_at"].endswith("-07:00")  # the site's clock: America/Denver in December (MST)
 
     run = app.manager.get_screen("survey_run")
     tap(button(run, "Add a leak"))
@@ -166,6 +167,9 @@ def test_whole_day_by_taps(make_app):
     media = app.store.rows("SELECT m.id, k.x, k.y, k.label FROM media m JOIN markers k ON k.media_id = m.id "
                            "WHERE m.leak_id = ?", (leak["id"],))
     assert len(media) == 1 and media[0]["label"] == "OM2-NEW-1" and abs(media[0]["x"] - 0.5) < 0.05
+    from fieldapp.evidence.ingest import library
+
+    assert not list((library(app.store).root / "pending").glob("*"))  # handed to the library, not left behind
 
     due_before = {(i.leak_id, i.kind) for i in due_list(app.store, TODAY)[0]}
     assert (leak["id"], "first_attempt") in due_before

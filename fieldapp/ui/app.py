@@ -56,6 +56,12 @@ class PlumebookApp(App):
         now = datetime.fromtimestamp(self.store.wall(), UTC)
         return local_date(now, tz) if tz else now.date()
 
+    def now_text(self, tz: str) -> str:
+        """This moment on the site's clock, ISO 8601 with its offset (what survey and leak times store)."""
+        from zoneinfo import ZoneInfo
+
+        return datetime.fromtimestamp(self.store.wall(), UTC).astimezone(ZoneInfo(tz)).isoformat(timespec="seconds")
+
     def show(self, name: str, remember: bool = True) -> None:
         """Go to a screen (refreshing it)."""
         if remember and self.manager.current != name:

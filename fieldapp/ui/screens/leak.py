@@ -5,7 +5,7 @@ a hazard flag that shows the caution and defers to the site's emergency procedur
 from __future__ import annotations
 
 import hashlib
-from datetime import UTC, datetime
+from pathlib import Path
 
 from kivy.graphics import Color, Line
 from kivy.properties import ListProperty
@@ -205,7 +205,7 @@ class LeakScreen(FormScreen):
             return
         leak_values = {k: v for k, v in values.items() if k not in ("type", "service") and v not in (None, "")}
         leak_values.update(survey_id=self.survey["id"],
-                           detected_at=datetime.fromtimestamp(self.store.wall(), UTC).astimezone().isoformat())
+                           detected_at=self.app.now_text(self.site["timezone"]))
         known = self.store.rows("SELECT id FROM components WHERE site_id = ? AND tag = ? AND deleted = 0",
                                 (self.site["id"], tag))
         new_component = None
@@ -227,6 +227,8 @@ class LeakScreen(FormScreen):
                 add_media(self.store, leak.id, data, item["name"], marks, actor=self.survey["operator"])
             except ValidationError as exc:
                 problems.append(str(exc))
+                continue
+            Path(item["path"]).unlink(missing_ok=True)  # the original is now in the library
         self.drop_draft()
         self.app.leak_id = leak.id
         self.app.show("survey_run", remember=False)

@@ -4,7 +4,6 @@ which fields are required, and the survey cannot start without them."""
 from __future__ import annotations
 
 import json
-from datetime import UTC, datetime
 
 from fieldapp import catalog
 from fieldapp.core.enums import CameraCheck, SurveyMethod
@@ -61,7 +60,7 @@ class SurveyScreen(FormScreen):
     def do_start(self) -> None:
         values = {k: v for k, v in self.form.values().items() if v is not None}
         values["site_id"] = self.app.site_id
-        values["started_at"] = datetime.fromtimestamp(self.store.wall(), UTC).astimezone().isoformat()
+        values["started_at"] = self.app.now_text(self.store.get("sites", self.app.site_id)["timezone"])
         try:
             survey, warnings = ops.start_survey(self.store, values, actor=values.get("operator", ""))
         except ValidationError as exc:

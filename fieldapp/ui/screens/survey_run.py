@@ -3,8 +3,6 @@ from the monitoring plan (or the statement that there were none)."""
 
 from __future__ import annotations
 
-from datetime import UTC, datetime
-
 from kivy.uix.gridlayout import GridLayout
 from kivy.uix.togglebutton import ToggleButton
 
@@ -87,7 +85,8 @@ class SurveyRunScreen(FormScreen):
 
     def do_end(self) -> None:
         values = self.form.values()
-        changes = {"ended_at": datetime.fromtimestamp(self.store.wall(), UTC).astimezone().isoformat(),
+        site = self.store.get("sites", self.app.site_id)
+        changes = {"ended_at": self.app.now_text(site["timezone"]),
                    "areas_done": self.areas_done(), "deviations": values["deviations"] or "",
                    "no_deviations": values["no_deviations"]}
         try:
