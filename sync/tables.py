@@ -37,7 +37,7 @@ def due_rows(items: Iterable[DueItem], as_of: date) -> list[dict[str, Any]]:
 def to_csv(rows: Iterable[dict[str, Any]], columns: Sequence[str]) -> str:
     """CSV text with a header row, in the given column order (booleans as true/false)."""
     out = io.StringIO()
-    writer = csv.writer(out, lineterminator="\n")
+    writer = csv.writer(out, lineterminator="\r\n")  # RFC 4180; also makes csv quote fields holding \r
     writer.writerow(columns)
     for row in rows:
         writer.writerow([cell(row[c]) for c in columns])

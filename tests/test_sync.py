@@ -191,3 +191,52 @@ def test_bundle_commands(demo_store, tmp_path, capsys):
     out.write_bytes(b"PK not really")
     assert main(["--db", str(office), "bundle", "merge", str(out)]) == 2
     assert "not a readable zip" in capsys.readouterr().err
+
+
+from hypothesis import HealthCheck, given, settings  # noqa: E402
+from hypothesis import strategies as st  # noqa: E402
+
+LEAKS = st.lists(st.fixed_dictionaries({
+    "tag": st.text(st.characters(min_codepoint=33, max_codepoint=0x2FFF, exclude_characters=","), min_size=1,
+                   max_size=12),
+    "type": st.sampled_from(["valve", "connector", "flange", "open_ended_line", "pump_seal", "thief_hatch"]),
+    "service": st.sampled_from(["gas", "light_liquid", "water_oil"]),
+    "note": st.text(max_size=30),
+    "ppm": st.none() | st.floats(0, 200_000),
+    "hazard": st.booleans(),
+}), min_size=1, max_size=6, unique_by=lambda d: d["tag"].strip())
+
+
+@settings(max_examples=15, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@given(leaks=LEAKS)
+def test_round_trip_record_store_bundle_office_csv(tmp_path_factory, leaks):
+    """Property: whatever is recorded on a tablet comes out of the office CSV with the same values."""
+    import csv as csv_module
+
+    from sync.export import export_csv, leak_table
+
+    folder = tmp_path_factory.mktemp("rt")
+    tablet = Store(folder / "t" / "t.db", wall=Wall())
+    site = ops.add_site(tablet, SITE)
+    survey, _ = ops.start_survey(tablet, {
+        "site_id": site.id, "method": "ogi", "started_at": "2026-11-30T08:00:00-07:00", "operator": "P",
+        "qualification": "q", "camera_make": "m", "camera_model": "x", "camera_check": "passed",
+        "ambient_temp_c": 1, "sky": "clear", "wind_max_m_s": 2})
+    for n, leak in enumerate(leaks):
+        values = {"survey_id": survey.id, "detected_at": f"2026-11-30T09:{n:02d}:00-07:00",
+                  "location_note": leak["note"], "hazard": leak["hazard"]}
+        if leak["ppm"] is not None:
+            values["screening_ppm"] = leak["ppm"]
+        ops.add_leak(tablet, values, new_component={"tag": leak["tag"], "type": leak["type"],
+                                                     "service": leak["service"]})
+    office = Store(folder / "o" / "o.db", wall=Wall())
+    merge(office, make_device_bundle(tablet, folder / "b.zip").path)
+    assert leak_table(office) == leak_table(tablet)
+    export_csv(office, folder / "csv")
+    with open(folder / "csv" / "leaks.csv", encoding="utf-8", newline="") as fh:
+        rows = {r["tag"]: r for r in csv_module.DictReader(fh)}
+    for leak in leaks:
+        row = rows[leak["tag"].strip()]
+        assert (row["component_type"], row["service"], row["location_note"]) == (
+            leak["type"], leak["service"], leak["note"].strip())
+        assert row["hazard"] == ("true" if leak["hazard"] else "false")
