@@ -44,7 +44,7 @@ class DueScreen(BaseScreen):
             when = f"OVERDUE {-days} day(s)" if late else (f"due in {days} day(s)" if days is not None else "open")
             what = f"{i.method.upper()} survey" if i.kind == "survey" else f"{i.kind.replace('_', ' ')} {i.tag}"
             rows.append({"text": f"[b]{when}[/b] - {what}{'  REPEAT LEAKER' if i.repeat_leaker else ''}\n"
-                                 f"{i.site_name} - by {i.due} - {i.citation}",
+                                 f"{i.site_name} - by {i.due}",
                          "key": i.leak_id or i.site_id, "stripe": theme.DANGER if late else theme.ACTION,
                          "on_pick": (self.open_leak if i.leak_id else self.open_site)})
         self.ids.due_items.rows = rows

@@ -33,7 +33,7 @@ def site_rows(store, today) -> list[dict]:
     for site in list_sites(store):
         sid = site["id"]
         nxt = sorted(windows[sid], key=lambda i: i.due)
-        window = "; ".join(f"{i.method.upper()} survey {i.earliest} to {i.due}" for i in nxt[:2]) or "no window"
+        window = f"next {nxt[0].method.upper()} survey by {nxt[0].due}" if nxt else "no survey window"
         late = overdue[sid]
         flag = f"   [color=#ad0f0a][b]{late} OVERDUE[/b][/color]" if late else ""
         rows.append({
