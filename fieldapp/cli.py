@@ -22,10 +22,6 @@ Handler = Callable[[argparse.Namespace], int]
 COMMANDS: dict[str, Handler] = {}
 
 
-class UsageError(ValueError):
-    """Bad command-line input."""
-
-
 def default_db() -> Path:
     """PLUMEBOOK_DB, or plumebook.db in the user's data folder."""
     if os.environ.get("PLUMEBOOK_DB"):
@@ -95,7 +91,7 @@ def main(argv: Sequence[str] | None = None) -> int:
     except ValidationError as exc:
         print(f"plumebook: {exc}", file=sys.stderr)
         return 2
-    except (NotFoundError, UsageError) as exc:
+    except NotFoundError as exc:
         print(f"plumebook: {exc}", file=sys.stderr)
         return 2
     except BrokenPipeError:

@@ -13,19 +13,13 @@ from typing import Any
 
 from fieldapp import catalog
 from fieldapp.core import due as due_core
-from fieldapp.core.enums import ActionKind, SiteKind, SurveyMethod
+from fieldapp.core.enums import SiteKind, SurveyMethod
 from fieldapp.core.lifecycle import outstanding, summarize
 from fieldapp.core.records import Action
 from fieldapp.core.windows import PastSurvey, WindowError, next_window
 from fieldapp.store.base import Store
-from fieldapp.store.reads import REPEAT_MIN, REPEAT_SURVEYS, local_day
+from fieldapp.store.reads import REPEAT_COUNT, REPEAT_MIN, local_day, make_action
 
-REPEAT_COUNT = (
-    "(SELECT COUNT(DISTINCT l2.survey_id) FROM leaks l2 JOIN surveys v2 ON v2.id = l2.survey_id "
-    "WHERE l2.component_id = l.component_id AND l2.deleted = 0 AND v2.deleted = 0 AND "
-    "(SELECT COUNT(*) FROM surveys v3 WHERE v3.site_id = v2.site_id AND v3.deleted = 0 "
-    f"AND v3.started_at > v2.started_at) < {REPEAT_SURVEYS})"
-)
 OPEN_LEAKS = (
     "WITH open AS MATERIALIZED (SELECT l.id, l.detected_at, l.screening_ppm, l.component_id, s.id AS site_id, "
     "s.name AS site_name, s.timezone, s.program_id, c.tag, c.type AS component_type, "
@@ -65,10 +59,7 @@ def leak_items(store: Store, site_id: str | None = None) -> list[due_core.DueIte
             actions = []
         current = row
         if row[11] is not None:
-            actions.append(Action(id=row[11], leak_id=row[0], kind=ActionKind(row[12]),
-                                  done_on=date.fromisoformat(row[13]), actor="", seq=row[14], reason=row[15] or "",
-                                  planned_on=date.fromisoformat(row[16]) if row[16] else None,
-                                  shutdown_on=date.fromisoformat(row[17]) if row[17] else None))
+            actions.append(make_action(row[11], row[0], *row[12:18]))
     if current is not None:
         flush(current)
     return items

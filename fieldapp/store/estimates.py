@@ -69,7 +69,9 @@ def emission_report(store: Store, start: date, end: date, as_of: date, conventio
                     site_id: str | None = None) -> tuple[EmissionReport, list[str]]:
     """Emission totals of every leak of the store (or one site), and the leaks left out with why."""
     rows = leak_rows(store, site_id)
-    actions = store.rows("SELECT a.* FROM actions a JOIN leaks l ON l.id = a.leak_id WHERE l.deleted = 0")
+    where = "AND v.site_id = ?" if site_id else ""
+    actions = store.rows("SELECT a.* FROM actions a JOIN leaks l ON l.id = a.leak_id JOIN surveys v ON "
+                         f"v.id = l.survey_id WHERE l.deleted = 0 {where}", (site_id,) if site_id else ())
     facts = facts_for(rows, actions)
     rates = estimates(store, rows)
     zones: dict = {}

@@ -29,6 +29,7 @@ from fieldapp.core.records import (
 )
 from fieldapp.core.records import replace as replace_record
 from fieldapp.store.base import NotFoundError, Store, new_id
+from fieldapp.store.reads import action_from_row
 
 
 def _parse(cls: type, values: Mapping[str, Any]) -> Any:
@@ -140,8 +141,7 @@ def add_leak(store: Store, values: Mapping[str, Any], new_component: Mapping[str
 
 def leak_actions(store: Store, leak_id: str) -> list[Action]:
     """All actions of a leak as records."""
-    rows = store.rows("SELECT * FROM actions WHERE leak_id = ?", (leak_id,))
-    return [parse_record(Action, {k: v for k, v in r.items() if k != "recorded_at"})[0] for r in rows]
+    return [action_from_row(r) for r in store.rows("SELECT * FROM actions WHERE leak_id = ?", (leak_id,))]
 
 
 def leak_context(store: Store, leak_id: str) -> tuple[dict, dict, date]:

@@ -43,21 +43,29 @@ def list_surveys(store: Store, site_id: str | None = None) -> list[dict[str, Any
     )
 
 
-def action_from_row(row: dict[str, Any]) -> Action:
-    """An action record from a trusted store row (no re-validation)."""
+def make_action(action_id: str, leak_id: str, kind: str, done_on: str, seq: int | None, reason: str | None,
+                planned_on: str | None, shutdown_on: str | None, actor: str = "", note: str = "",
+                instrument: str = "") -> Action:
+    """An action record from trusted stored values (no re-validation)."""
     return Action(
-        id=row["id"], leak_id=row["leak_id"], kind=ActionKind(row["kind"]),
-        done_on=date.fromisoformat(row["done_on"]), actor=row.get("actor", ""), reason=row.get("reason") or "",
-        planned_on=date.fromisoformat(row["planned_on"]) if row.get("planned_on") else None,
-        shutdown_on=date.fromisoformat(row["shutdown_on"]) if row.get("shutdown_on") else None,
-        seq=row.get("seq") or 0,
+        id=action_id, leak_id=leak_id, kind=ActionKind(kind), done_on=date.fromisoformat(done_on), actor=actor or "",
+        reason=reason or "", planned_on=date.fromisoformat(planned_on) if planned_on else None,
+        shutdown_on=date.fromisoformat(shutdown_on) if shutdown_on else None, seq=seq or 0, note=note or "",
+        instrument=instrument or "",
     )
 
 
-def local_day(detected_at: str, tz_name: str, zones: dict[str, ZoneInfo] | None = None) -> date:
+def action_from_row(row: dict[str, Any]) -> Action:
+    """An action record from a stored row (a dict of actions columns)."""
+    return make_action(row["id"], row["leak_id"], row["kind"], row["done_on"], row.get("seq"), row.get("reason"),
+                       row.get("planned_on"), row.get("shutdown_on"), row.get("actor", ""), row.get("note", ""),
+                       row.get("instrument", ""))
+
+
+def local_day(moment: str, tz_name: str, zones: dict[str, ZoneInfo] | None = None) -> date:
     """The local calendar date of a stored moment on a site's clock."""
     zone = zones.setdefault(tz_name, ZoneInfo(tz_name)) if zones is not None else ZoneInfo(tz_name)
-    return datetime.fromisoformat(detected_at).astimezone(zone).date()
+    return datetime.fromisoformat(moment).astimezone(zone).date()
 
 
 def facts_for(leaks: Iterable[dict[str, Any]], actions: Iterable[dict[str, Any]]) -> dict[str, LeakFacts]:
@@ -81,35 +89,32 @@ LEAK_SELECT = (
 )
 
 
-def repeat_leakers(store: Store, site_id: str | None = None) -> set[str]:
-    """Component ids found leaking in at least 2 of their site's last 4 surveys."""
-    where = "AND site_id = ?" if site_id else ""
-    rows = store.rows(
-        "WITH ranked AS (SELECT id, ROW_NUMBER() OVER (PARTITION BY site_id ORDER BY started_at DESC) AS rn "
-        f"FROM surveys WHERE deleted = 0 {where}) "
-        "SELECT l.component_id FROM leaks l JOIN ranked r ON r.id = l.survey_id "
-        f"WHERE r.rn <= {REPEAT_SURVEYS} AND l.deleted = 0 GROUP BY l.component_id "
-        f"HAVING COUNT(DISTINCT l.survey_id) >= {REPEAT_MIN}", (site_id,) if site_id else ()
-    )
-    return {r["component_id"] for r in rows}
+# A component is a repeat leaker when leaks on it were found in at least REPEAT_MIN of its site's last
+# REPEAT_SURVEYS surveys. One SQL expression (per leak row ``l``) serves the leak list and the due list.
+REPEAT_COUNT = (
+    "(SELECT COUNT(DISTINCT l2.survey_id) FROM leaks l2 JOIN surveys v2 ON v2.id = l2.survey_id "
+    "WHERE l2.component_id = l.component_id AND l2.deleted = 0 AND v2.deleted = 0 AND "
+    "(SELECT COUNT(*) FROM surveys v3 WHERE v3.site_id = v2.site_id AND v3.deleted = 0 "
+    f"AND v3.started_at > v2.started_at) < {REPEAT_SURVEYS})"
+)
 
 
 def list_leaks(store: Store, site_id: str | None = None, open_only: bool = False) -> list[dict[str, Any]]:
     """Live leaks with tag, site, derived state and repeat-leaker flag, newest first."""
     where = " AND s.id = ?" if site_id else ""
     params = (site_id,) if site_id else ()
-    leaks = store.rows(LEAK_SELECT + where + " ORDER BY l.detected_at DESC", params)
+    leaks = store.rows(LEAK_SELECT.replace("FROM leaks l", f", {REPEAT_COUNT} AS seen_in FROM leaks l")
+                       + where + " ORDER BY l.detected_at DESC", params)
     actions = store.rows(
         "SELECT a.* FROM actions a JOIN leaks l ON l.id = a.leak_id JOIN surveys v ON v.id = l.survey_id "
         "JOIN sites s ON s.id = v.site_id WHERE l.deleted = 0" + where, params)
     facts = facts_for(leaks, actions)
-    repeats = repeat_leakers(store, site_id)
     out = []
     for leak in leaks:
         f = facts[leak["id"]]
         leak["state"] = f.state.value
         leak["detected_on"] = f.detected_on.isoformat()
-        leak["repeat_leaker"] = leak["component_id"] in repeats
+        leak["repeat_leaker"] = leak.pop("seen_in") >= REPEAT_MIN
         if not open_only or f.state.value not in ("closed", "void"):
             out.append(leak)
     return out
