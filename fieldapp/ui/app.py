@@ -39,9 +39,12 @@ class PlumebookApp(App):
     def build(self):
         Window.clearcolor = theme.BG
         self.store = Store(self.db_path, actor=os.environ.get("PLUMEBOOK_ACTOR", ""))
+        from kivy.clock import Clock
+
         from fieldapp.evidence.ingest import library
 
-        library(self.store).clean_temp()
+        # leftover temp files of a killed write: swept after the first frame, not before it
+        Clock.schedule_once(lambda _dt: library(self.store).clean_temp(), 1.0)
         if self.sources is None:
             self.sources = default_sources(self.db_path.parent)
         self.manager = ScreenManager(transition=SlideTransition(duration=0.15) if self.animate else NoTransition())
