@@ -21,6 +21,8 @@ from typing import Any
 
 from fieldapp.core.fields import FieldProblem, ValidationError
 from fieldapp.store.base import loads
+from fieldapp.store.batches import BATCH_OP
+from fieldapp.store.batches import problem as batch_problem
 from sync.bundle import ENTRY_COLUMNS, FORMAT, VERSION
 
 MAX_MEMBER = 2 * 1024**3
@@ -142,6 +144,10 @@ def _entries(path: Path, blob: bytes, manifest: dict[str, Any]) -> list[dict[str
             raise BundleError(path, "a journal entry lacks the expected fields")
         if e["tbl"] not in ("sites", "components", "surveys", "leaks", "actions", "media", "markers"):
             raise BundleError(path, f"a journal entry names an unknown table {e['tbl']!r}")
+        if e["op"] not in ("insert", "update", "delete", BATCH_OP):
+            raise BundleError(path, f"a journal entry has an unknown operation {e['op']!r}")
+        if e["op"] == BATCH_OP and (wrong := batch_problem(e)):
+            raise BundleError(path, f"entry {e['seq']}: {wrong}")
     if manifest.get("kind") == "device":
         device = manifest.get("device_id")
         seqs = [e["seq"] for e in entries]

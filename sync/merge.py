@@ -21,6 +21,8 @@ from fieldapp import catalog
 from fieldapp.atomic import write_bytes
 from fieldapp.evidence.ingest import library
 from fieldapp.store.base import LIST_COLUMNS, Store, dumps, loads, to_sql
+from fieldapp.store.batches import BATCH_OP, PREFIX, expand, find_row
+from fieldapp.store.bulk import gc_paused
 from fieldapp.store.clock import Stamp
 from sync.bundle import ACK_KEY, ENTRY_COLUMNS
 from sync.bundle_check import BundleError, CheckedBundle, check
@@ -77,20 +79,22 @@ def merge(store: Store, path: Path | str) -> MergeResult:
     new = _new_entries(store, bundle)
     result.new_entries = len(new)
     lib = library(store)
-    needed = {e["new"]["sha256"] for e in new if e["tbl"] == "media" and e["new"]}
+    needed = {e["new"]["sha256"] for e in new if e["tbl"] == "media" and e["new"] and e["op"] != BATCH_OP}
     for sha in sorted(needed):
         if not lib.original(sha).exists():
             lib.put(bundle.media[sha], sha)
             result.media += 1
-    with store.transaction():
+    with gc_paused(), store.transaction():
         store.conn.execute("PRAGMA defer_foreign_keys = ON")
         if new:
+            plain = [p for e in new for p in (expand(e) if e["op"] == BATCH_OP else (e,))]
+            known = existing_entries(store, {e["row_id"] for e in plain})
             store.conn.executemany(
                 f"INSERT OR IGNORE INTO journal ({', '.join(ENTRY_COLUMNS)}) VALUES ({', '.join('?' * 10)})",
                 [(*(e[c] for c in ENTRY_COLUMNS[:8]), None if e["old"] is None else dumps(e["old"]),
                   None if e["new"] is None else dumps(e["new"])) for e in new])
             store.clock.observe(Stamp.parse(max(e["hlc"] for e in new)))
-            result.rows, result.conflicts = rebuild(store, {(e["tbl"], e["row_id"]) for e in new})
+            result.rows, result.conflicts = rebuild(store, plain, known)
         if m["kind"] == "office":
             store.conn.execute("INSERT INTO meta(key, value) VALUES (?, ?) ON CONFLICT(key) DO UPDATE SET "
                                "value = MAX(CAST(value AS INTEGER), CAST(excluded.value AS INTEGER))",
@@ -127,22 +131,49 @@ def replay(entries: list[dict[str, Any]]) -> tuple[dict[str, Any] | None, list[t
     return state, conflicts
 
 
-def rebuild(store: Store, touched: set[tuple[str, str]]) -> tuple[int, int]:
-    """Rebuild the touched records from the whole journal; returns (rows written, conflicts found)."""
+def existing_entries(store: Store, row_ids: set[str]) -> list[dict[str, Any]]:
+    """Every journal entry this store already holds for these records, batch entries as one per record."""
     conn = store.conn
     conn.execute("CREATE TEMP TABLE IF NOT EXISTS touched (row_id TEXT PRIMARY KEY)")
     conn.execute("DELETE FROM touched")
-    conn.executemany("INSERT OR IGNORE INTO touched VALUES (?)", [(r,) for _t, r in touched])
-    cursor = conn.execute("SELECT j.tbl, j.row_id, j.device_id, j.seq, j.hlc, j.op, j.old, j.new FROM journal j "
-                          "JOIN touched t ON t.row_id = j.row_id ORDER BY j.row_id, j.hlc")
-    grouped: dict[tuple[str, str], list[dict[str, Any]]] = defaultdict(list)
-    for tbl, row_id, device, seq, hlc, op, old, new in cursor:
-        grouped[(tbl, row_id)].append({"device_id": device, "seq": seq, "hlc": hlc, "op": op,
-                                       "old": loads(old) if old else None,
-                                       "new": loads(new) if new else None})
+    conn.executemany("INSERT OR IGNORE INTO touched VALUES (?)", [(r,) for r in row_ids])
+    found = [{"tbl": tbl, "row_id": row_id, "device_id": device, "seq": seq, "hlc": hlc, "op": op,
+              "old": loads(old) if old else None, "new": loads(new) if new else None}
+             for tbl, row_id, device, seq, hlc, op, old, new in conn.execute(
+                 "SELECT j.tbl, j.row_id, j.device_id, j.seq, j.hlc, j.op, j.old, j.new FROM touched t "
+                 f"JOIN journal j ON j.row_id = t.row_id AND j.op != '{BATCH_OP}'")]
+    pairs = conn.execute(
+        "SELECT t.row_id, j.device_id, j.seq FROM touched t "
+        f"JOIN journal j ON j.op = '{BATCH_OP}' AND j.row_id BETWEEN substr(t.row_id, 1, {PREFIX}) AND t.row_id"
+    ).fetchall()
+    batches = {}
+    for key in sorted({(device, seq) for _member, device, seq in pairs}):  # each batch decoded once
+        tbl, hlc, new = conn.execute("SELECT tbl, hlc, new FROM journal WHERE device_id = ? AND seq = ?",
+                                     key).fetchone()
+        batches[key] = (tbl, hlc, loads(new))
+    for member, device, seq in pairs:
+        tbl, hlc, value = batches[(device, seq)]
+        values = find_row(value, member)
+        if values is not None:
+            found.append({"tbl": tbl, "row_id": member, "device_id": device, "seq": seq, "hlc": hlc,
+                          "op": "insert", "old": None, "new": values})
+    return found
+
+
+def rebuild(store: Store, new: list[dict[str, Any]], known: list[dict[str, Any]]) -> tuple[int, int]:
+    """Rebuild the records the new entries touch from all their entries; returns (rows written, conflicts).
+
+    ``new`` are the merged entries and ``known`` the entries the store held before for the same
+    records (both with batch entries expanded to one insert per record).
+    """
+    conn = store.conn
+    grouped: dict[tuple[str, str], dict[tuple[str, int], dict[str, Any]]] = defaultdict(dict)
+    for e in (*known, *new):  # an entry already held and merged again counts once
+        grouped[(e["tbl"], e["row_id"])].setdefault((e["device_id"], e["seq"]), e)
     by_table: dict[str, list[dict[str, Any]]] = defaultdict(list)
     conflict_rows = []
-    for (tbl, row_id), entries in grouped.items():
+    for (tbl, row_id), keyed in grouped.items():
+        entries = sorted(keyed.values(), key=lambda e: e["hlc"]) if len(keyed) > 1 else list(keyed.values())
         state, conflicts = replay(entries)
         if state is not None:
             by_table[tbl].append(state)

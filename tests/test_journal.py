@@ -10,7 +10,7 @@ from hypothesis import strategies as st
 
 from fieldapp.core.fields import ValidationError
 from fieldapp.store import ops
-from fieldapp.store.base import Store
+from fieldapp.store.base import NotFoundError, Store
 from fieldapp.store.history import history, state_at
 from fieldapp.store.importer import import_components
 from tests.conftest import SITE
@@ -46,7 +46,33 @@ def test_every_write_path_journals_with_consecutive_sequence_numbers(store, site
                        (survey.id, "update"), (leak.id, "insert"), (action.id, "insert"),
                        (component.id, "update"), (component.id, "delete")]:
         assert (row_id, op) in ops_by_row
-    assert sum(1 for e in entries if e["tbl"] == "components" and e["op"] == "insert") == 4
+    assert sum(1 for e in entries if e["tbl"] == "components" and e["op"] == "insert") == 2
+    # the import is one user action: one batch entry that holds both rows, seen per record by history()
+    (batch,) = [e for e in entries if e["op"] == "insert_batch"]
+    imported = store.rows("SELECT * FROM components WHERE tag IN ('A-2', 'A-3') ORDER BY tag")
+    assert batch["row_id"] == imported[0]["id"]
+    for row in imported:
+        (entry,) = history(store, row["id"])
+        assert entry["op"] == "insert" and entry["batch_size"] == 2 and entry["seq"] == batch["seq"]
+        assert entry["new"] == row
+        assert state_at(store, row["id"]) == row
+
+
+def test_history_of_an_imported_record_follows_later_edits(store, site, tmp_path, wall):
+    csv_file = tmp_path / "c.csv"
+    csv_file.write_text("tag,type,service,area\n" + "".join(f"B-{i},valve,gas,east\n" for i in range(300)))
+    assert import_components(store, csv_file, site.id) == 300
+    after_import = store.now_text()
+    ids = [r["id"] for r in store.rows("SELECT id FROM components WHERE site_id = ? ORDER BY id", (site.id,))]
+    wall.advance(60)
+    ops.edit(store, "components", ids[150], {"area": "west"})
+    entries = history(store, ids[150])
+    assert [e["op"] for e in entries] == ["insert", "update"]
+    assert state_at(store, ids[150], after_import)["area"] == "east"
+    assert state_at(store, ids[150])["area"] == "west"
+    # an id inside the batch's range that the batch does not hold has no history
+    with pytest.raises(NotFoundError):
+        history(store, ids[0] + "0")
 
 
 def test_a_refused_action_writes_nothing(store, site):

@@ -156,6 +156,8 @@ def cmd_history(args: argparse.Namespace) -> int:
         if e["op"] == "update":
             changed = ", ".join(f"{k}: {e['old'].get(k)!r} -> {v!r}" for k, v in e["new"].items()
                                 if e["old"].get(k) != v)
+        elif e.get("batch_size"):
+            changed = f"(one import of {e['batch_size']} records)"
         print(f"{e['at']}  {e['op']:<6}  {e['tbl']:<10}  by {e['actor'] or '?'} on device "
               f"{e['device_id'][:8]} #{e['seq']}  {changed}")
     return 0

@@ -2,24 +2,34 @@
 
 from __future__ import annotations
 
-import json
 from typing import Any
 
-from fieldapp.store.base import NotFoundError, Store
+from fieldapp.store.base import NotFoundError, Store, loads
+from fieldapp.store.batches import BATCH_OP, candidate_range, find_row, row_count
+
+COLUMNS = "device_id, seq, hlc, at, actor, tbl, row_id, op, old, new"
 
 
 def history(store: Store, row_id: str) -> list[dict[str, Any]]:
-    """Every journal entry of one record, oldest first, with old and new values decoded."""
-    entries = store.rows(
-        "SELECT device_id, seq, hlc, at, actor, tbl, row_id, op, old, new FROM journal "
-        "WHERE row_id = ? ORDER BY hlc", (row_id,)
-    )
+    """Every journal entry of one record, oldest first, with old and new values decoded.
+
+    A bulk import's batch entry appears as this record's ``insert`` (its values alone), with
+    ``batch_size`` = how many records that one entry inserted.
+    """
+    entries = store.rows(f"SELECT {COLUMNS} FROM journal WHERE row_id = ? AND op != '{BATCH_OP}'", (row_id,))
+    low, high = candidate_range(row_id)
+    for entry in store.rows(f"SELECT {COLUMNS} FROM journal WHERE row_id BETWEEN ? AND ? AND op = '{BATCH_OP}'",
+                            (low, high)):
+        batch = loads(entry["new"])
+        values = find_row(batch, row_id)
+        if values is not None:
+            entries.append({**entry, "row_id": row_id, "op": "insert", "new": values, "batch_size": row_count(batch)})
     for entry in entries:
-        entry["old"] = json.loads(entry["old"]) if entry["old"] else None
-        entry["new"] = json.loads(entry["new"]) if entry["new"] else None
+        entry["old"] = loads(entry["old"]) if isinstance(entry["old"], str) else entry["old"]
+        entry["new"] = loads(entry["new"]) if isinstance(entry["new"], str) else entry["new"]
     if not entries:
         raise NotFoundError(f"no journal entries for record {row_id}")
-    return entries
+    return sorted(entries, key=lambda e: e["hlc"])
 
 
 def state_at(store: Store, row_id: str, moment: str | None = None) -> dict[str, Any] | None:

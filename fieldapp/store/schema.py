@@ -171,6 +171,11 @@ def _v6(conn: sqlite3.Connection) -> None:
     )
 
 
+@migration(7, "batch journal entries of bulk imports")
+def _v7(conn: sqlite3.Connection) -> None:
+    run_script(conn, "CREATE INDEX journal_batch ON journal(row_id) WHERE op = 'insert_batch';")
+
+
 LATEST = MIGRATIONS[-1][0]
 
 
