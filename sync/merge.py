@@ -68,43 +68,57 @@ def _new_entries(store: Store, bundle: CheckedBundle) -> list[dict[str, Any]]:
 
 
 def merge(store: Store, path: Path | str) -> MergeResult:
-    """Verify a bundle completely, then apply what is new in one transaction.
+    """Verify one bundle completely, then apply what is new in one transaction."""
+    return merge_many(store, [path])[0]
 
-    A device bundle whose whole range this store already holds is verified (every member's size and
-    SHA-256) but its entries are not decoded again: there is nothing new in it.
+
+def merge_many(store: Store, paths: list[Path | str]) -> list[MergeResult]:
+    """Verify every bundle completely, then apply them in the order given in one transaction.
+
+    One refused bundle (damaged, hostile, out of order) changes nothing at all. A device bundle
+    whose whole range this store already holds is verified (every member's size and SHA-256) but
+    its entries are not decoded again: there is nothing new in it. Program files carried by office
+    bundles are written after the transaction commits.
     """
-    bundle = check(path, held=lambda device: contiguous_seq(store, device))
+    bundles = [check(path, held=lambda device: contiguous_seq(store, device)) for path in paths]
+    programs: dict[str, bytes] = {}
+    with gc_paused(), store.transaction():
+        store.conn.execute("PRAGMA defer_foreign_keys = ON")
+        results = [_apply(store, bundle, programs) for bundle in bundles]
+    folder = catalog.user_programs_dir()
+    for name, blob in programs.items():
+        target = folder / name
+        if not target.exists() or target.read_bytes() != blob:
+            write_bytes(target, blob)
+            results[-1].notes.append(f"program file {name} updated")
+    return results
+
+
+def _apply(store: Store, bundle: CheckedBundle, programs: dict[str, bytes]) -> MergeResult:
     m = bundle.manifest
-    result = MergeResult(Path(path), m["kind"], m["device_id"])
+    result = MergeResult(bundle.path, m["kind"], m["device_id"])
     new = _new_entries(store, bundle)
     result.new_entries = len(new)
     lib = library(store)
     needed = {e["new"]["sha256"] for e in new if e["tbl"] == "media" and e["new"] and e["op"] != BATCH_OP}
-    for sha in sorted(needed):
+    for sha in sorted(needed):  # content-addressed files: one left by a rolled-back merge is reused later
         if not lib.original(sha).exists():
             lib.put(bundle.media[sha], sha)
             result.media += 1
-    with gc_paused(), store.transaction():
-        store.conn.execute("PRAGMA defer_foreign_keys = ON")
-        if new:
-            plain = [p for e in new for p in (expand(e) if e["op"] == BATCH_OP else (e,))]
-            known = existing_entries(store, {e["row_id"] for e in plain})
-            store.conn.executemany(
-                f"INSERT OR IGNORE INTO journal ({', '.join(ENTRY_COLUMNS)}) VALUES ({', '.join('?' * 10)})",
-                [(*(e[c] for c in ENTRY_COLUMNS[:8]), None if e["old"] is None else dumps(e["old"]),
-                  None if e["new"] is None else dumps(e["new"])) for e in new])
-            store.clock.observe(Stamp.parse(max(e["hlc"] for e in new)))
-            result.rows, result.conflicts = rebuild(store, plain, known)
-        if m["kind"] == "office":
-            store.conn.execute("INSERT INTO meta(key, value) VALUES (?, ?) ON CONFLICT(key) DO UPDATE SET "
-                               "value = MAX(CAST(value AS INTEGER), CAST(excluded.value AS INTEGER))",
-                               (ACK_KEY, str(m.get("ack_seq", 0))))
-            folder = catalog.user_programs_dir()
-            for name, blob in bundle.programs.items():
-                target = folder / name
-                if not target.exists() or target.read_bytes() != blob:
-                    write_bytes(target, blob)
-                    result.notes.append(f"program file {name} updated")
+    if new:
+        plain = [p for e in new for p in (expand(e) if e["op"] == BATCH_OP else (e,))]
+        known = existing_entries(store, {e["row_id"] for e in plain})
+        store.conn.executemany(
+            f"INSERT OR IGNORE INTO journal ({', '.join(ENTRY_COLUMNS)}) VALUES ({', '.join('?' * 10)})",
+            [(*(e[c] for c in ENTRY_COLUMNS[:8]), None if e["old"] is None else dumps(e["old"]),
+              None if e["new"] is None else dumps(e["new"])) for e in new])
+        store.clock.observe(Stamp.parse(max(e["hlc"] for e in new)))
+        result.rows, result.conflicts = rebuild(store, plain, known)
+    if m["kind"] == "office":
+        store.conn.execute("INSERT INTO meta(key, value) VALUES (?, ?) ON CONFLICT(key) DO UPDATE SET "
+                           "value = MAX(CAST(value AS INTEGER), CAST(excluded.value AS INTEGER))",
+                           (ACK_KEY, str(m.get("ack_seq", 0))))
+        programs.update(bundle.programs)
     return result
 
 
@@ -132,7 +146,11 @@ def replay(entries: list[dict[str, Any]]) -> tuple[dict[str, Any] | None, list[t
 
 
 def existing_entries(store: Store, row_ids: set[str]) -> list[dict[str, Any]]:
-    """Every journal entry this store already holds for these records, batch entries as one per record."""
+    """Every journal entry this store already holds for these records, batch entries as one per record.
+
+    The join order and indexes are fixed (CROSS JOIN, INDEXED BY): left to itself, the planner of
+    a store without statistics scans the whole journal once per merge.
+    """
     conn = store.conn
     conn.execute("CREATE TEMP TABLE IF NOT EXISTS touched (row_id TEXT PRIMARY KEY)")
     conn.execute("DELETE FROM touched")
@@ -141,10 +159,10 @@ def existing_entries(store: Store, row_ids: set[str]) -> list[dict[str, Any]]:
               "old": loads(old) if old else None, "new": loads(new) if new else None}
              for tbl, row_id, device, seq, hlc, op, old, new in conn.execute(
                  "SELECT j.tbl, j.row_id, j.device_id, j.seq, j.hlc, j.op, j.old, j.new FROM touched t "
-                 f"JOIN journal j ON j.row_id = t.row_id AND j.op != '{BATCH_OP}'")]
+                 f"CROSS JOIN journal j INDEXED BY journal_row WHERE j.row_id = t.row_id AND j.op != '{BATCH_OP}'")]
     pairs = conn.execute(
-        "SELECT t.row_id, j.device_id, j.seq FROM touched t "
-        f"JOIN journal j ON j.op = '{BATCH_OP}' AND j.row_id BETWEEN substr(t.row_id, 1, {PREFIX}) AND t.row_id"
+        "SELECT t.row_id, j.device_id, j.seq FROM touched t CROSS JOIN journal j INDEXED BY journal_batch "
+        f"WHERE j.op = '{BATCH_OP}' AND j.row_id BETWEEN substr(t.row_id, 1, {PREFIX}) AND t.row_id"
     ).fetchall()
     batches = {}
     for key in sorted({(device, seq) for _member, device, seq in pairs}):  # each batch decoded once
@@ -173,8 +191,12 @@ def rebuild(store: Store, new: list[dict[str, Any]], known: list[dict[str, Any]]
     by_table: dict[str, list[dict[str, Any]]] = defaultdict(list)
     conflict_rows = []
     for (tbl, row_id), keyed in grouped.items():
-        entries = sorted(keyed.values(), key=lambda e: e["hlc"]) if len(keyed) > 1 else list(keyed.values())
-        state, conflicts = replay(entries)
+        if len(keyed) == 1:  # a record new to this store, inserted once: its state is that insert
+            (only,) = keyed.values()
+            if only["op"] == "insert":
+                by_table[tbl].append(only["new"])
+                continue
+        state, conflicts = replay(sorted(keyed.values(), key=lambda e: e["hlc"]))
         if state is not None:
             by_table[tbl].append(state)
         for key, winner, loser, _value in conflicts:
@@ -190,7 +212,7 @@ def rebuild(store: Store, new: list[dict[str, Any]], known: list[dict[str, Any]]
         cols = [c for c in columns if c in rows[0]]
         if LIST_COLUMNS.intersection(cols):
             rows = [to_sql(r) for r in rows]
-        values = [tuple(r.get(c) for c in cols) for r in rows]
+        values = [tuple(map(r.get, cols)) for r in rows]
         placeholders = ", ".join("?" * len(cols))
         if tbl == "actions":
             sql = f"INSERT OR IGNORE INTO actions ({', '.join(cols)}) VALUES ({placeholders})"

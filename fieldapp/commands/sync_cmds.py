@@ -50,11 +50,10 @@ def cmd_make(args: argparse.Namespace) -> int:
 
 
 def cmd_merge(args: argparse.Namespace) -> int:
-    from sync.merge import merge
+    from sync.merge import merge_many
 
     store = open_store(args)
-    for path in args.files:
-        r = merge(store, path)
+    for path, r in zip(args.files, merge_many(store, args.files), strict=True):
         print(f"{path.name}: {r.kind} bundle from {r.device_id[:8]}: {r.new_entries} new entries, {r.rows} records "
               f"rebuilt, {r.media} media files, {r.conflicts} conflicts")
         for note in r.notes:

@@ -16,10 +16,11 @@ def history(store: Store, row_id: str) -> list[dict[str, Any]]:
     A bulk import's batch entry appears as this record's ``insert`` (its values alone), with
     ``batch_size`` = how many records that one entry inserted.
     """
-    entries = store.rows(f"SELECT {COLUMNS} FROM journal WHERE row_id = ? AND op != '{BATCH_OP}'", (row_id,))
+    entries = store.rows(f"SELECT {COLUMNS} FROM journal INDEXED BY journal_row "
+                         f"WHERE row_id = ? AND op != '{BATCH_OP}'", (row_id,))
     low, high = candidate_range(row_id)
-    for entry in store.rows(f"SELECT {COLUMNS} FROM journal WHERE row_id BETWEEN ? AND ? AND op = '{BATCH_OP}'",
-                            (low, high)):
+    for entry in store.rows(f"SELECT {COLUMNS} FROM journal INDEXED BY journal_batch "
+                            f"WHERE row_id BETWEEN ? AND ? AND op = '{BATCH_OP}'", (low, high)):
         batch = loads(entry["new"])
         values = find_row(batch, row_id)
         if values is not None:

@@ -20,7 +20,7 @@ from fieldapp.store import ops
 from fieldapp.store.base import Store, new_ids
 from fieldapp.store.importer import import_components
 from sync.bundle import make_device_bundle
-from sync.merge import merge
+from sync.merge import merge_many
 
 COLUMNS = ("id", "site_id", "tag", "type", "service", "area", "equipment", "difficult_to_monitor",
            "unsafe_to_monitor", "deleted")
@@ -81,12 +81,10 @@ def raw_upsert(path: Path, rows: list[tuple]) -> float:
 def merge_all(office_path: Path, paths: list[Path]) -> tuple[float, float]:
     office = Store(office_path)
     start = time.perf_counter()
-    for path in paths:
-        merge(office, path)
+    merge_many(office, paths)  # as `plumebook bundle merge FILE...` does: one transaction for all
     first = time.perf_counter() - start
     start = time.perf_counter()
-    for path in paths:
-        merge(office, path)
+    merge_many(office, paths)
     second = time.perf_counter() - start
     office.close()
     return first, second
