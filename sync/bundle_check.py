@@ -28,6 +28,11 @@ from sync.bundle import ENTRY_COLUMNS, FORMAT, VERSION
 MAX_MEMBER = 2 * 1024**3
 MAX_TOTAL = 8 * 1024**3
 MAX_RATIO = 200
+FIELDS = frozenset(ENTRY_COLUMNS)
+TABLES = frozenset({"sites", "components", "surveys", "leaks", "actions", "media", "markers"})
+OPS = frozenset({"insert", "update", "delete", BATCH_OP})
+VALUE_TYPES = (dict, type(None))
+HLC = re.compile(r"^\d{15}-\d{6}-[0-9a-f-]{36}$")
 NAME = re.compile(r"^(manifest\.json|journal\.jsonl|media/[0-9a-f]{64}|programs/[A-Za-z0-9_.-]{1,80}\.toml)$")
 
 
@@ -140,14 +145,20 @@ def _entries(path: Path, blob: bytes, manifest: dict[str, Any]) -> list[dict[str
     if len(entries) != manifest.get("entries"):
         raise BundleError(path, "journal.jsonl holds another number of entries than the manifest says")
     for e in entries:
-        if not isinstance(e, dict) or set(e) != set(ENTRY_COLUMNS):
+        if not isinstance(e, dict) or e.keys() != FIELDS:
             raise BundleError(path, "a journal entry lacks the expected fields")
-        if e["tbl"] not in ("sites", "components", "surveys", "leaks", "actions", "media", "markers"):
+        if e["tbl"] not in TABLES:
             raise BundleError(path, f"a journal entry names an unknown table {e['tbl']!r}")
-        if e["op"] not in ("insert", "update", "delete", BATCH_OP):
-            raise BundleError(path, f"a journal entry has an unknown operation {e['op']!r}")
-        if e["op"] == BATCH_OP and (wrong := batch_problem(e)):
+        op = e["op"]
+        if op not in OPS:
+            raise BundleError(path, f"a journal entry has an unknown operation {op!r}")
+        if type(e["seq"]) is not int or type(e["row_id"]) is not str or type(e["hlc"]) is not str \
+                or type(e["old"]) not in VALUE_TYPES or type(e["new"]) not in VALUE_TYPES:
+            raise BundleError(path, f"entry {e.get('seq')!r}: a field has the wrong type")
+        if op == BATCH_OP and (wrong := batch_problem(e)):
             raise BundleError(path, f"entry {e['seq']}: {wrong}")
+    if any(not HLC.match(e["hlc"]) for e in entries):
+        raise BundleError(path, "a journal entry's clock stamp is not in the stamp format")
     if manifest.get("kind") == "device":
         device = manifest.get("device_id")
         seqs = [e["seq"] for e in entries]

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import hashlib
 import itertools
 import json
 import shutil
@@ -120,6 +121,30 @@ def manifest_edit(edit):
     return change
 
 
+def resigned_journal(good, out, edit):
+    """Copy a bundle with its journal entries edited and the manifest's hash and size made to match."""
+    with zipfile.ZipFile(good) as zf:
+        entries = [json.loads(line) for line in zf.read("journal.jsonl").splitlines()]
+    edit(entries)
+    body = b"".join(json.dumps(e).encode() + b"\n" for e in entries)
+
+    def change(name, data):
+        if name == "journal.jsonl":
+            return name, body
+        if name == "manifest.json":
+            m = json.loads(data)
+            for member in m["members"]:
+                if member["name"] == "journal.jsonl":
+                    member.update(size=len(body), sha256=hashlib.sha256(body).hexdigest())
+            return name, json.dumps(m)
+        return name, data
+    return rewrite(good, out, change)
+
+
+def first_batch(entries):
+    return next(e for e in entries if e["op"] == "insert_batch")
+
+
 def hostile(kind, good, tmp_path):
     out = tmp_path / f"{kind}.zip"
     if kind == "truncated":
@@ -149,11 +174,20 @@ def hostile(kind, good, tmp_path):
             zf.writestr("programs/zeros.toml", b"\0" * 50_000_000)
     elif kind == "unknown_version":
         rewrite(good, out, manifest_edit(lambda m: m.update(version=99)))
+    elif kind == "wrong_value_type":  # consistent hashes, but an entry's new values are a string
+        resigned_journal(good, out, lambda es: es[-1].update(new="DROP TABLE sites"))
+    elif kind == "bad_stamp":
+        resigned_journal(good, out, lambda es: es[0].update(hlc="9999"))
+    elif kind == "batch_ids_out_of_order":
+        resigned_journal(good, out, lambda es: first_batch(es)["new"]["columns"]["id"].reverse())
+    elif kind == "batch_columns_uneven":
+        resigned_journal(good, out, lambda es: first_batch(es)["new"]["columns"]["tag"].pop())
     return out
 
 
 HOSTILE = ["truncated", "flipped_byte", "hash_mismatch", "size_mismatch", "absolute_path", "dot_dot", "link",
-           "bomb", "unknown_version"]
+           "bomb", "unknown_version", "wrong_value_type", "bad_stamp", "batch_ids_out_of_order",
+           "batch_columns_uneven"]
 
 
 @pytest.mark.parametrize("kind", HOSTILE)
