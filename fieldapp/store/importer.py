@@ -41,26 +41,6 @@ SERVICES = frozenset(s.value for s in Service)
 FLAGS = {"": 0, "no": 0, "yes": 1, "0": 0, "1": 1, "false": 0, "true": 1}
 
 
-def _canonical(row: dict[str, str | None], record_id: str, site_id: str) -> dict | None:
-    """The plain component of a row already written in canonical form, or None (then parse_record decides).
-
-    Accepts only values that ``parse_record`` would accept unchanged, so both paths give the same
-    component; rows in any other spelling go through the full parser (tests/test_import.py checks this).
-    """
-    tag, ctype, service = row.get("tag") or "", row.get("type"), row.get("service")
-    area, equipment = row.get("area") or "", row.get("equipment") or ""
-    if ctype not in TYPES or service not in SERVICES or not tag or len(tag) > 80 or tag != tag.strip():
-        return None
-    if len(area) > 120 or len(equipment) > 120 or area != area.strip() or equipment != equipment.strip():
-        return None
-    difficult = FLAGS.get(row.get("difficult_to_monitor") or "")
-    unsafe = FLAGS.get(row.get("unsafe_to_monitor") or "")
-    if difficult is None or unsafe is None:
-        return None
-    return {"id": record_id, "site_id": site_id, "tag": tag, "type": ctype, "service": service, "area": area,
-            "equipment": equipment, "difficult_to_monitor": difficult, "unsafe_to_monitor": unsafe}
-
-
 OUT_COLUMNS = ("id", "tag", "type", "service", "area", "equipment", "difficult_to_monitor", "unsafe_to_monitor")
 _ODD_BREAKS = ("\x0b", "\x0c", "\x1c", "\x1d", "\x1e", "\x85", "\u2028", "\u2029")
 
@@ -108,7 +88,7 @@ def _canonical_columns(columns: dict[str, list[str]], ids: list[str],
     tag), so it gives what the row-by-row path gives (tests/test_import.py); any doubt returns None.
     """
     blank = [""] * len(ids)
-    tags, types, services = columns["tag"], columns["type"], columns["service"]
+    tags, types, services = (columns.get(name, blank) for name in REQUIRED)
     area, equipment = columns.get("area", blank), columns.get("equipment", blank)
     difficult, unsafe = columns.get("difficult_to_monitor", blank), columns.get("unsafe_to_monitor", blank)
     if not (set(types) <= TYPES and set(services) <= SERVICES and set(difficult) <= FLAGS.keys()
@@ -137,8 +117,10 @@ def _row_by_row(header: list[str], body: list[tuple[int, list[str]]], ids: list[
             problems.append(FieldProblem("row", "has more values than the header has columns", line))
             continue
         row = dict(zip(header, values, strict=False))
-        plain = _canonical(row, record_id, site_id)
-        if plain is None:
+        fast = _canonical_columns({name: [value] for name, value in row.items()}, [record_id], set())
+        if fast is not None:
+            plain = {name: value[0] for name, value in fast.items()}
+        else:
             record, row_problems = parse_record(Component, {**row, "id": record_id, "site_id": site_id}, line)
             problems += row_problems
             if record is None:
