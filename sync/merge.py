@@ -12,6 +12,7 @@ are append-only and never conflict.
 from __future__ import annotations
 
 import json
+import sqlite3
 from collections import defaultdict
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -77,14 +78,29 @@ def merge_many(store: Store, paths: list[Path | str]) -> list[MergeResult]:
 
     One refused bundle (damaged, hostile, out of order) changes nothing at all. A device bundle
     whose whole range this store already holds is verified (every member's size and SHA-256) but
-    its entries are not decoded again: there is nothing new in it. Program files carried by office
-    bundles are written after the transaction commits.
+    its entries are not decoded again: there is nothing new in it. Media originals are stored once
+    every check has passed, just before the commit; program files carried by office bundles are
+    written after it.
     """
     bundles = [check(path, held=lambda device: contiguous_seq(store, device)) for path in paths]
     programs: dict[str, bytes] = {}
-    with gc_paused(), store.transaction():
-        store.conn.execute("PRAGMA defer_foreign_keys = ON")
-        results = [_apply(store, bundle, programs) for bundle in bundles]
+    media: dict[str, bytes] = {}
+    written: dict[str, set[str]] = defaultdict(set)
+    conn = store.conn
+    enforcing = conn.execute("PRAGMA foreign_keys").fetchone()[0]
+    conn.execute("PRAGMA foreign_keys = OFF")  # checked below for the written rows only (a no-op inside a transaction)
+    try:
+        with gc_paused(), store.transaction():
+            conn.execute("PRAGMA defer_foreign_keys = ON")
+            results = [_apply(store, bundle, programs, media, written) for bundle in bundles]
+            if problems := dangling_references(conn, written):
+                raise BundleError(" + ".join(b.path.name for b in bundles),
+                                  f"would leave records pointing at nothing: {'; '.join(problems)}")
+            lib = library(store)
+            for sha, blob in sorted(media.items()):  # stored (and synced) before the rows that name them commit
+                lib.put(blob, sha)
+    finally:
+        conn.execute(f"PRAGMA foreign_keys = {'ON' if enforcing else 'OFF'}")
     folder = catalog.user_programs_dir()
     for name, blob in programs.items():
         target = folder / name
@@ -94,16 +110,40 @@ def merge_many(store: Store, paths: list[Path | str]) -> list[MergeResult]:
     return results
 
 
-def _apply(store: Store, bundle: CheckedBundle, programs: dict[str, bytes]) -> MergeResult:
+def dangling_references(conn: sqlite3.Connection, written: dict[str, set[str]]) -> list[str]:
+    """Foreign keys of the written records that point at no record (at most five named).
+
+    Records are never removed (deletes are tombstones), so checking the written records' own
+    references covers everything a merge can break; it replaces SQLite's per-row check, which
+    doubled the cost of writing the rows (tests/bench/bench_merge.py).
+    """
+    problems: list[str] = []
+    for tbl in TABLE_ORDER:
+        ids = written.get(tbl)
+        if not ids:
+            continue
+        keys = dumps(sorted(ids))
+        for fk in conn.execute(f"PRAGMA foreign_key_list({tbl})").fetchall():
+            parent, column, target = fk[2], fk[3], fk[4] or "id"
+            for row_id, value in conn.execute(
+                    f"SELECT c.id, c.{column} FROM json_each(?) t CROSS JOIN {tbl} c ON c.id = t.value "
+                    f"LEFT JOIN {parent} p ON p.{target} = c.{column} "
+                    f"WHERE c.{column} IS NOT NULL AND p.{target} IS NULL LIMIT 5", (keys,)):
+                problems.append(f"{tbl[:-1]} {row_id}: {column} {value} is not in {parent}")
+    return problems[:5]
+
+
+def _apply(store: Store, bundle: CheckedBundle, programs: dict[str, bytes], media: dict[str, bytes],
+           written: dict[str, set[str]]) -> MergeResult:
     m = bundle.manifest
     result = MergeResult(bundle.path, m["kind"], m["device_id"])
     new = _new_entries(store, bundle)
     result.new_entries = len(new)
     lib = library(store)
     needed = {e["new"]["sha256"] for e in new if e["tbl"] == "media" and e["new"] and e["op"] != BATCH_OP}
-    for sha in sorted(needed):  # content-addressed files: one left by a rolled-back merge is reused later
-        if not lib.original(sha).exists():
-            lib.put(bundle.media[sha], sha)
+    for sha in sorted(needed):
+        if not lib.original(sha).exists() and sha not in media:
+            media[sha] = bundle.media[sha]
             result.media += 1
     if new:
         plain = [p for e in new for p in (expand(e) if e["op"] == BATCH_OP else (e,))]
@@ -113,7 +153,7 @@ def _apply(store: Store, bundle: CheckedBundle, programs: dict[str, bytes]) -> M
             [(*(e[c] for c in ENTRY_COLUMNS[:8]), None if e["old"] is None else dumps(e["old"]),
               None if e["new"] is None else dumps(e["new"])) for e in new])
         store.clock.observe(Stamp.parse(max(e["hlc"] for e in new)))
-        result.rows, result.conflicts = rebuild(store, plain, known)
+        result.rows, result.conflicts = rebuild(store, plain, known, written)
     if m["kind"] == "office":
         store.conn.execute("INSERT INTO meta(key, value) VALUES (?, ?) ON CONFLICT(key) DO UPDATE SET "
                            "value = MAX(CAST(value AS INTEGER), CAST(excluded.value AS INTEGER))",
@@ -152,17 +192,16 @@ def existing_entries(store: Store, row_ids: set[str]) -> list[dict[str, Any]]:
     a store without statistics scans the whole journal once per merge.
     """
     conn = store.conn
-    conn.execute("CREATE TEMP TABLE IF NOT EXISTS touched (row_id TEXT PRIMARY KEY)")
-    conn.execute("DELETE FROM touched")
-    conn.executemany("INSERT OR IGNORE INTO touched VALUES (?)", [(r,) for r in row_ids])
+    keys = (dumps(sorted(row_ids)),)
     found = [{"tbl": tbl, "row_id": row_id, "device_id": device, "seq": seq, "hlc": hlc, "op": op,
               "old": loads(old) if old else None, "new": loads(new) if new else None}
              for tbl, row_id, device, seq, hlc, op, old, new in conn.execute(
-                 "SELECT j.tbl, j.row_id, j.device_id, j.seq, j.hlc, j.op, j.old, j.new FROM touched t "
-                 f"CROSS JOIN journal j INDEXED BY journal_row WHERE j.row_id = t.row_id AND j.op != '{BATCH_OP}'")]
+                 "SELECT j.tbl, j.row_id, j.device_id, j.seq, j.hlc, j.op, j.old, j.new FROM json_each(?) t "
+                 f"CROSS JOIN journal j INDEXED BY journal_row WHERE j.row_id = t.value AND j.op != '{BATCH_OP}'",
+                 keys)]
     pairs = conn.execute(
-        "SELECT t.row_id, j.device_id, j.seq FROM touched t CROSS JOIN journal j INDEXED BY journal_batch "
-        f"WHERE j.op = '{BATCH_OP}' AND j.row_id BETWEEN substr(t.row_id, 1, {PREFIX}) AND t.row_id"
+        "SELECT t.value, j.device_id, j.seq FROM json_each(?) t CROSS JOIN journal j INDEXED BY journal_batch "
+        f"WHERE j.op = '{BATCH_OP}' AND j.row_id BETWEEN substr(t.value, 1, {PREFIX}) AND t.value", keys
     ).fetchall()
     batches = {}
     for key in sorted({(device, seq) for _member, device, seq in pairs}):  # each batch decoded once
@@ -178,7 +217,8 @@ def existing_entries(store: Store, row_ids: set[str]) -> list[dict[str, Any]]:
     return found
 
 
-def rebuild(store: Store, new: list[dict[str, Any]], known: list[dict[str, Any]]) -> tuple[int, int]:
+def rebuild(store: Store, new: list[dict[str, Any]], known: list[dict[str, Any]],
+            written: dict[str, set[str]] | None = None) -> tuple[int, int]:
     """Rebuild the records the new entries touch from all their entries; returns (rows written, conflicts).
 
     ``new`` are the merged entries and ``known`` the entries the store held before for the same
@@ -203,7 +243,7 @@ def rebuild(store: Store, new: list[dict[str, Any]], known: list[dict[str, Any]]
             conflict_rows.append((tbl, row_id, key, winner["device_id"], winner["seq"],
                                   json.dumps(winner["new"].get(key)), loser["device_id"], loser["seq"],
                                   json.dumps(loser["new"].get(key) if loser["new"] else None)))
-    written = 0
+    count = 0
     for tbl in TABLE_ORDER:
         rows = by_table.get(tbl)
         if not rows:
@@ -221,9 +261,11 @@ def rebuild(store: Store, new: list[dict[str, Any]], known: list[dict[str, Any]]
             sql = (f"INSERT INTO {tbl} ({', '.join(cols)}) VALUES ({placeholders}) "
                    f"ON CONFLICT(id) DO UPDATE SET {updates}")
         conn.executemany(sql, values)
-        written += len(rows)
+        count += len(rows)
+        if written is not None:
+            written[tbl].update(r["id"] for r in rows)
     conn.executemany("INSERT OR IGNORE INTO conflicts VALUES (?,?,?,?,?,?,?,?,?)", conflict_rows)
-    return written, len(conflict_rows)
+    return count, len(conflict_rows)
 
 
 def conflicts(store: Store) -> list[dict[str, Any]]:

@@ -180,6 +180,9 @@ def hostile(kind, good, tmp_path):
         resigned_journal(good, out, lambda es: es[0].update(hlc="9999"))
     elif kind == "batch_ids_out_of_order":
         resigned_journal(good, out, lambda es: first_batch(es)["new"]["columns"]["id"].reverse())
+    elif kind == "dangling_reference":  # well formed, but a leak points at a component nobody has
+        resigned_journal(good, out, lambda es: next(e for e in es if e["tbl"] == "leaks")["new"].update(
+            component_id="01234567-89ab-7cde-8f01-23456789abcd"))
     elif kind == "batch_columns_uneven":
         resigned_journal(good, out, lambda es: first_batch(es)["new"]["columns"]["tag"].pop())
     return out
@@ -187,7 +190,7 @@ def hostile(kind, good, tmp_path):
 
 HOSTILE = ["truncated", "flipped_byte", "hash_mismatch", "size_mismatch", "absolute_path", "dot_dot", "link",
            "bomb", "unknown_version", "wrong_value_type", "bad_stamp", "batch_ids_out_of_order",
-           "batch_columns_uneven"]
+           "batch_columns_uneven", "dangling_reference"]
 
 
 @pytest.mark.parametrize("kind", HOSTILE)
