@@ -15,6 +15,7 @@ import json
 import sqlite3
 from collections import defaultdict
 from dataclasses import dataclass, field
+from operator import itemgetter
 from pathlib import Path
 from typing import Any
 
@@ -82,7 +83,8 @@ def merge_many(store: Store, paths: list[Path | str]) -> list[MergeResult]:
     every check has passed, just before the commit; program files carried by office bundles are
     written after it.
     """
-    bundles = [check(path, held=lambda device: contiguous_seq(store, device)) for path in paths]
+    with gc_paused():
+        bundles = [check(path, held=lambda device: contiguous_seq(store, device)) for path in paths]
     programs: dict[str, bytes] = {}
     media: dict[str, bytes] = {}
     written: dict[str, set[str]] = defaultdict(set)
@@ -148,10 +150,11 @@ def _apply(store: Store, bundle: CheckedBundle, programs: dict[str, bytes], medi
     if new:
         plain = [p for e in new for p in (expand(e) if e["op"] == BATCH_OP else (e,))]
         known = existing_entries(store, {e["row_id"] for e in plain})
+        head = itemgetter(*ENTRY_COLUMNS[:8])
         store.conn.executemany(
             f"INSERT OR IGNORE INTO journal ({', '.join(ENTRY_COLUMNS)}) VALUES ({', '.join('?' * 10)})",
-            [(*(e[c] for c in ENTRY_COLUMNS[:8]), None if e["old"] is None else dumps(e["old"]),
-              None if e["new"] is None else dumps(e["new"])) for e in new])
+            [(*head(e), None if e["old"] is None else dumps(e["old"]), None if e["new"] is None else dumps(e["new"]))
+             for e in new])
         store.clock.observe(Stamp.parse(max(e["hlc"] for e in new)))
         result.rows, result.conflicts = rebuild(store, plain, known, written)
     if m["kind"] == "office":
@@ -225,18 +228,21 @@ def rebuild(store: Store, new: list[dict[str, Any]], known: list[dict[str, Any]]
     records (both with batch entries expanded to one insert per record).
     """
     conn = store.conn
-    grouped: dict[tuple[str, str], dict[tuple[str, int], dict[str, Any]]] = defaultdict(dict)
-    for e in (*known, *new):  # an entry already held and merged again counts once
-        grouped[(e["tbl"], e["row_id"])].setdefault((e["device_id"], e["seq"]), e)
+    grouped: dict[tuple[str, str], list[dict[str, Any]]] = defaultdict(list)
+    held = {(e["device_id"], e["seq"], e["row_id"]) for e in known}
+    for e in known:
+        grouped[(e["tbl"], e["row_id"])].append(e)
+    for e in new:  # an entry already held and merged again counts once
+        if not held or (e["device_id"], e["seq"], e["row_id"]) not in held:
+            grouped[(e["tbl"], e["row_id"])].append(e)
     by_table: dict[str, list[dict[str, Any]]] = defaultdict(list)
     conflict_rows = []
-    for (tbl, row_id), keyed in grouped.items():
-        if len(keyed) == 1:  # a record new to this store, inserted once: its state is that insert
-            (only,) = keyed.values()
-            if only["op"] == "insert":
-                by_table[tbl].append(only["new"])
-                continue
-        state, conflicts = replay(sorted(keyed.values(), key=lambda e: e["hlc"]))
+    for (tbl, row_id), entries in grouped.items():
+        if len(entries) == 1 and entries[0]["op"] == "insert":  # new to this store, inserted once
+            by_table[tbl].append(entries[0]["new"])
+            continue
+        entries.sort(key=itemgetter("hlc"))
+        state, conflicts = replay(entries)
         if state is not None:
             by_table[tbl].append(state)
         for key, winner, loser, _value in conflicts:
