@@ -162,7 +162,7 @@ def parse_components(text: str, site_id: str, existing_tags: set[str]) -> dict[s
             raise ValidationError(problems)
         count = len(columns[header[0]])
         ids = new_ids(count)
-        fast = _canonical_columns(columns, ids, existing_tags) if count else dict.fromkeys(OUT_COLUMNS, [])
+        fast = _canonical_columns(columns, ids, existing_tags) if count else {name: [] for name in OUT_COLUMNS}
         if fast is not None:
             return fast
     rows = split_csv(text)

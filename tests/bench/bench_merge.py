@@ -108,8 +108,11 @@ def main(bundles: int = 20, changes: int = 5000) -> None:
         paths = [p for p, _rows, _j in made]
         rows = [r for _p, rs, _j in made for r in rs]
         journal = [e for _p, _r, js in made for e in js]
-        raw_s = min(raw_upsert(folder / f"raw{i}.db", rows) for i in range(3))
-        floor_s = min(raw_upsert(folder / f"floor{i}.db", rows, journal) for i in range(3))
+        raw_runs, floor_runs = [], []
+        for i in range(3):  # interleaved, best of three each
+            raw_runs.append(raw_upsert(folder / f"raw{i}.db", rows))
+            floor_runs.append(raw_upsert(folder / f"floor{i}.db", rows, journal))
+        raw_s, floor_s = min(raw_runs), min(floor_runs)
         first, second = merge_all(folder / "office" / "office.db", paths)
         imports = [import_bundle(folder, b, changes) for b in range(bundles)]
         batch_first, _ = merge_all(folder / "office2" / "office.db", imports)
