@@ -53,6 +53,16 @@ def acked_seq(store: Store) -> int:
     return int(row[0]) if row else 0
 
 
+def pending_changes(store: Store) -> int:
+    """How many record changes of this device the office has not acknowledged yet.
+
+    An import's batch entry counts once per record it inserted, so the number is what the user changed.
+    """
+    return store.conn.execute(
+        "SELECT COALESCE(SUM(CASE WHEN op = 'insert_batch' THEN json_array_length(new, '$.columns.id') ELSE 1 END), 0) "
+        "FROM journal WHERE device_id = ? AND seq > ?", (store.device_id, acked_seq(store))).fetchone()[0]
+
+
 def _entries(store: Store, where: str, params: tuple) -> list[dict[str, Any]]:
     rows = store.rows(f"SELECT {', '.join(ENTRY_COLUMNS)} FROM journal WHERE {where} ORDER BY device_id, seq", params)
     for row in rows:

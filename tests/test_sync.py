@@ -17,7 +17,7 @@ from fieldapp.store import ops
 from fieldapp.store.base import Store
 from fieldapp.store.history import history
 from fieldapp.store.importer import import_components
-from sync.bundle import make_device_bundle, make_office_bundle
+from sync.bundle import make_device_bundle, make_office_bundle, pending_changes
 from sync.dump import canonical, fingerprint
 from sync.merge import conflicts, merge, merge_many
 from tests.conftest import DEMO_NOW, SITE, Wall
@@ -95,10 +95,16 @@ def test_three_devices_in_every_order_give_the_same_office_state(tmp_path):
 
 def test_office_bundle_acknowledges_the_tablets_entries(demo_store, tmp_path):
     office = new_store(tmp_path, "office")
+    # every record change counts, the imported inventory once per component
+    records = sum(demo_store.conn.execute(f"SELECT COUNT(*) FROM {t}").fetchone()[0]
+                  for t in ("sites", "components", "surveys", "leaks", "actions", "media", "markers"))
+    updates = demo_store.conn.execute("SELECT COUNT(*) FROM journal WHERE op IN ('update', 'delete')").fetchone()[0]
+    assert pending_changes(demo_store) == records + updates
     merge(office, make_device_bundle(demo_store, tmp_path / "b.zip").path)
     merge(demo_store, make_office_bundle(office, tmp_path / "o.zip", demo_store.device_id).path)
     nothing_new = make_device_bundle(demo_store, tmp_path / "b2.zip")
     assert nothing_new.entries == 0
+    assert pending_changes(demo_store) == 0
 
 
 def rewrite(src, dst, change):

@@ -12,13 +12,12 @@ class ExportScreen(FormScreen):
     """Hand the day's records to the office."""
 
     def refresh(self) -> None:
-        from sync.bundle import acked_seq
+        from sync.bundle import pending_changes
 
         self.title = "Send to the office and make reports"
         body = self.ids.body
         body.clear_widgets()
-        pending = self.store.conn.execute("SELECT COUNT(*) FROM journal WHERE device_id = ? AND seq > ?",
-                                          (self.store.device_id, acked_seq(self.store))).fetchone()[0]
+        pending = pending_changes(self.store)
         body.add_widget(Para(text=f"This tablet: device {self.store.device_id}\n{pending} change(s) not yet "
                                   "acknowledged by the office. A bundle holds all of them, with their photos; "
                                   "making it again repeats them, nothing is skipped."))
