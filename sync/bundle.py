@@ -25,12 +25,12 @@ from typing import Any
 from fieldapp import catalog
 from fieldapp.atomic import write_bytes
 from fieldapp.evidence.ingest import library
-from fieldapp.store.base import Store
+from fieldapp.store.base import JOURNAL_COLUMNS, Store
 
 FORMAT = "plumebook-bundle"
 VERSION = 1
 ACK_KEY = "office_ack_seq"
-ENTRY_COLUMNS = ("device_id", "seq", "hlc", "at", "actor", "tbl", "row_id", "op", "old", "new")
+ENTRY_COLUMNS = JOURNAL_COLUMNS
 OFFICE_TABLES = ("sites", "components")
 
 

@@ -22,10 +22,11 @@ from typing import Any
 from fieldapp import catalog
 from fieldapp.atomic import write_bytes
 from fieldapp.evidence.ingest import library
-from fieldapp.store.base import LIST_COLUMNS, Store, dumps, loads, to_sql
-from fieldapp.store.batches import BATCH_OP, PREFIX, expand, find_row
+from fieldapp.store.base import LIST_COLUMNS, Store, dumps, to_sql
+from fieldapp.store.batches import BATCH_OP, expand
 from fieldapp.store.bulk import gc_paused
 from fieldapp.store.clock import Stamp
+from fieldapp.store.history import entries_for
 from sync.bundle import ACK_KEY, ENTRY_COLUMNS
 from sync.bundle_check import BundleError, CheckedBundle, check
 
@@ -142,14 +143,14 @@ def _apply(store: Store, bundle: CheckedBundle, programs: dict[str, bytes], medi
     new = _new_entries(store, bundle)
     result.new_entries = len(new)
     lib = library(store)
-    needed = {e["new"]["sha256"] for e in new if e["tbl"] == "media" and e["new"] and e["op"] != BATCH_OP}
+    needed = {e["new"]["sha256"] for e in new if e["tbl"] == "media" and e["new"]}
     for sha in sorted(needed):
         if not lib.original(sha).exists() and sha not in media:
             media[sha] = bundle.media[sha]
             result.media += 1
     if new:
         plain = [p for e in new for p in (expand(e) if e["op"] == BATCH_OP else (e,))]
-        known = existing_entries(store, {e["row_id"] for e in plain})
+        known = entries_for(store, {e["row_id"] for e in plain})
         head = itemgetter(*ENTRY_COLUMNS[:8])
         store.conn.executemany(
             f"INSERT OR IGNORE INTO journal ({', '.join(ENTRY_COLUMNS)}) VALUES ({', '.join('?' * 10)})",
@@ -186,38 +187,6 @@ def replay(entries: list[dict[str, Any]]) -> tuple[dict[str, Any] | None, list[t
             state[key] = value
             writer[key] = e
     return state, conflicts
-
-
-def existing_entries(store: Store, row_ids: set[str]) -> list[dict[str, Any]]:
-    """Every journal entry this store already holds for these records, batch entries as one per record.
-
-    The join order and indexes are fixed (CROSS JOIN, INDEXED BY): left to itself, the planner of
-    a store without statistics scans the whole journal once per merge.
-    """
-    conn = store.conn
-    keys = (dumps(sorted(row_ids)),)
-    found = [{"tbl": tbl, "row_id": row_id, "device_id": device, "seq": seq, "hlc": hlc, "op": op,
-              "old": loads(old) if old else None, "new": loads(new) if new else None}
-             for tbl, row_id, device, seq, hlc, op, old, new in conn.execute(
-                 "SELECT j.tbl, j.row_id, j.device_id, j.seq, j.hlc, j.op, j.old, j.new FROM json_each(?) t "
-                 f"CROSS JOIN journal j INDEXED BY journal_row WHERE j.row_id = t.value AND j.op != '{BATCH_OP}'",
-                 keys)]
-    pairs = conn.execute(
-        "SELECT t.value, j.device_id, j.seq FROM json_each(?) t CROSS JOIN journal j INDEXED BY journal_batch "
-        f"WHERE j.op = '{BATCH_OP}' AND j.row_id BETWEEN substr(t.value, 1, {PREFIX}) AND t.value", keys
-    ).fetchall()
-    batches = {}
-    for key in sorted({(device, seq) for _member, device, seq in pairs}):  # each batch decoded once
-        tbl, hlc, new = conn.execute("SELECT tbl, hlc, new FROM journal WHERE device_id = ? AND seq = ?",
-                                     key).fetchone()
-        batches[key] = (tbl, hlc, loads(new))
-    for member, device, seq in pairs:
-        tbl, hlc, value = batches[(device, seq)]
-        values = find_row(value, member)
-        if values is not None:
-            found.append({"tbl": tbl, "row_id": member, "device_id": device, "seq": seq, "hlc": hlc,
-                          "op": "insert", "old": None, "new": values})
-    return found
 
 
 def rebuild(store: Store, new: list[dict[str, Any]], known: list[dict[str, Any]],

@@ -36,13 +36,14 @@ except ImportError:  # pragma: no cover - orjson is a declared dependency
 
     loads = json.loads
 
-from fieldapp.store.batches import BATCH_OP, BATCH_TABLES, PREFIX, batch_value
+from fieldapp.store.batches import BATCH_OP, BATCH_TABLES, batch_value, ids_problem
 from fieldapp.store.clock import HybridClock, Stamp
 from fieldapp.store.schema import migrate
 
 LIST_COLUMNS = frozenset({"areas", "areas_done"})
 RECORD_TABLES = ("sites", "components", "surveys", "leaks", "actions", "media", "markers")
 APPEND_ONLY_TABLES = frozenset({"actions"})
+JOURNAL_COLUMNS = ("device_id", "seq", "hlc", "at", "actor", "tbl", "row_id", "op", "old", "new")
 
 
 class NotFoundError(LookupError):
@@ -230,8 +231,8 @@ class Store:
             return 0
         if table not in BATCH_TABLES or next(iter(columns)) != "id" or set(columns) & set(same):
             raise ValueError(f"batch inserts need a table in {sorted(BATCH_TABLES)} and columns starting with id")
-        if ids[-1][:PREFIX] != ids[0][:PREFIX] or any(a >= b for a, b in zip(ids, ids[1:], strict=False)):
-            raise ValueError("batch ids must come from one new_ids() call")
+        if wrong := ids_problem(ids):
+            raise ValueError(f"{wrong}: draw them with one new_ids() call")
         names = [*columns, *same]
         sql = f"INSERT INTO {table} ({', '.join(names)}) VALUES ({', '.join('?' * len(names))})"
         values = zip(*columns.values(), *map(repeat, same.values()), strict=False)  # repeat() never ends

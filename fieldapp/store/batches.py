@@ -59,6 +59,15 @@ def expand(entry: dict[str, Any]) -> list[dict[str, Any]]:
             for values in zip(*columns.values(), strict=True)]
 
 
+def ids_problem(ids: list[str]) -> str | None:
+    """What keeps these ids from being one batch's ids (ascending, one millisecond prefix), or None."""
+    if any(a >= b for a, b in zip(ids, ids[1:], strict=False)):
+        return "a batch's ids must ascend"
+    if ids and ids[-1][:PREFIX] != ids[0][:PREFIX]:
+        return "a batch's ids must come from one id batch (same time prefix)"
+    return None
+
+
 def problem(entry: dict[str, Any]) -> str | None:
     """What is wrong with a batch entry received from elsewhere, or None when it is well formed."""
     value = entry.get("new")
@@ -73,9 +82,6 @@ def problem(entry: dict[str, Any]) -> str | None:
     if not isinstance(ids, list) or not ids or any(not isinstance(v, list) or len(v) != len(ids)
                                                    for v in columns.values()):
         return "a batch entry's columns must be lists of one length, one of them id"
-    if any(not isinstance(i, str) for i in ids) or ids[0] != entry.get("row_id") \
-            or any(a >= b for a, b in zip(ids, ids[1:], strict=False)):
-        return "a batch entry's ids must ascend from its row_id"
-    if ids[-1][:PREFIX] != ids[0][:PREFIX]:
-        return "a batch entry's ids must come from one id batch (same time prefix)"
-    return None
+    if any(not isinstance(i, str) for i in ids) or ids[0] != entry.get("row_id"):
+        return "a batch entry's ids must be text, starting with its row_id"
+    return ids_problem(ids)

@@ -87,6 +87,8 @@ def _canonical_columns(columns: dict[str, list[str]], ids: list[str],
     Accepts only values that ``parse_record`` would accept unchanged (and no repeated or existing
     tag), so it gives what the row-by-row path gives (tests/test_import.py); any doubt returns None.
     """
+    if not ids:
+        return {name: [] for name in OUT_COLUMNS}
     blank = [""] * len(ids)
     tags, types, services = (columns.get(name, blank) for name in REQUIRED)
     area, equipment = columns.get("area", blank), columns.get("equipment", blank)
@@ -160,9 +162,7 @@ def parse_components(text: str, site_id: str, existing_tags: set[str]) -> dict[s
         header, columns = plain
         if problems := _header_problems(header):
             raise ValidationError(problems)
-        count = len(columns[header[0]])
-        ids = new_ids(count)
-        fast = _canonical_columns(columns, ids, existing_tags) if count else {name: [] for name in OUT_COLUMNS}
+        fast = _canonical_columns(columns, new_ids(len(columns[header[0]])), existing_tags)
         if fast is not None:
             return fast
     rows = split_csv(text)
@@ -171,14 +171,11 @@ def parse_components(text: str, site_id: str, existing_tags: set[str]) -> dict[s
         raise ValidationError(problems)
     body = rows[1:]
     ids = new_ids(len(body))
-    if body and len({len(values) for _line, values in body}) == 1 and len(body[0][1]) == len(header):
-        columns = {name: list(values) for name, values in
-                   zip(header, zip(*(values for _line, values in body), strict=True), strict=True)}
+    if {len(values) for _line, values in body} <= {len(header)}:  # every row exactly as wide as the header
+        columns = {name: [values[i] for _line, values in body] for i, name in enumerate(header)}
         fast = _canonical_columns(columns, ids, existing_tags)
         if fast is not None:
             return fast
-    if not body:
-        return {name: [] for name in OUT_COLUMNS}
     return _row_by_row(header, body, ids, site_id, existing_tags)
 
 
