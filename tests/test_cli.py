@@ -83,7 +83,7 @@ def test_programs_commands(capsys):
             "company-template"} <= ids
     assert main(["programs", "show", "us-tx-hrvoc-fugitive", "--json"]) == 0
     shown = json.loads(capsys.readouterr().out)
-    assert shown["repair_tiers"][0]["min_ppm"] == 10000  # 30 TAC 115.782(b) [text]
+    assert shown["repair_tiers"][1]["min_ppm"] == 10000  # 30 TAC 115.782(b)(1) [text]
     assert main(["programs", "show", "no-such-program"]) == 2
     assert "known:" in capsys.readouterr().err
 

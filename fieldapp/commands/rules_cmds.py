@@ -26,8 +26,12 @@ def register(sub: argparse._SubParsersAction) -> None:
     d.add_argument("--first-attempt")
     d.add_argument("--repaired")
     d.add_argument("--resurvey-failed")
-    d.add_argument("--delayed")
-    d.add_argument("--shutdown")
+    d.add_argument("--delayed", help="date the leak was placed on delay of repair")
+    d.add_argument("--shutdown", help="next scheduled shutdown date (shutdown route of the delay)")
+    d.add_argument("--parts-ordered", help="date the replacement part was ordered (parts route of the delay)")
+    d.add_argument("--parts-received", help="date the replacement part was received (parts route)")
+    d.add_argument("--method", choices=["ogi", "method21", "avo"],
+                   help="how the leak was found (default: the program's primary method)")
     d.add_argument("--ppm", type=float)
     d.add_argument("--json", action="store_true")
     d.set_defaults(handler=cmd_deadlines)
@@ -63,7 +67,10 @@ def cmd_programs(args: argparse.Namespace) -> int:
         if not args.program_id:
             raise catalog.ValidationError([catalog.FieldProblem("program_id", "is required with show")])
         program = catalog.program(args.program_id)
+        from fieldapp.core.program import cited_values
+
         data = dataclasses.asdict(program)
+        data["values"] = cited_values(program)
         if args.json:
             emit_json(data)
         else:
@@ -106,7 +113,8 @@ def _action(kind: str, on, **extra):
 
 def cmd_deadlines(args: argparse.Namespace) -> int:
     from fieldapp import catalog
-    from fieldapp.core.fields import ValidationError
+    from fieldapp.core.enums import DelayKind, SurveyMethod
+    from fieldapp.core.fields import FieldProblem, ValidationError
     from fieldapp.core.lifecycle import deadlines, summarize
 
     program = catalog.program(args.program)
@@ -114,15 +122,29 @@ def cmd_deadlines(args: argparse.Namespace) -> int:
     actions = []
     if args.first_attempt:
         actions.append(_action("first_attempt", parse_day(args.first_attempt, "first-attempt"), seq=0))
+    if (args.shutdown or args.parts_ordered or args.parts_received) and not args.delayed:
+        raise ValidationError([FieldProblem("delayed", "is required with --shutdown, --parts-ordered or "
+                                            "--parts-received (the date the delay of repair began)")])
+    if args.parts_received and not args.parts_ordered:
+        raise ValidationError([FieldProblem("parts-ordered", "is required with --parts-received")])
     if args.delayed:
         shutdown = parse_day(args.shutdown, "shutdown") if args.shutdown else None
-        actions.append(_action("delay_of_repair", parse_day(args.delayed, "delayed"), seq=1,
-                               reason="calculator", shutdown_on=shutdown))
+        delayed = parse_day(args.delayed, "delayed")
+        parts = {"delay_kind": DelayKind.PARTS} if args.parts_ordered else {}
+        actions.append(_action("delay_of_repair", delayed, seq=1, reason="calculator", shutdown_on=shutdown,
+                               **parts))
+        for seq, (flag, name) in enumerate(((args.parts_ordered, "parts_ordered_on"),
+                                            (args.parts_received, "parts_received_on")), start=2):
+            if flag:
+                on = parse_day(flag, name.replace("_on", "").replace("_", "-"))
+                actions.append(_action("delay_of_repair", max(on, delayed), seq=seq, reason="calculator",
+                                       delay_kind=DelayKind.PARTS, **{name: on}))
     if args.repaired:
-        actions.append(_action("repaired", parse_day(args.repaired, "repaired"), seq=2))
+        actions.append(_action("repaired", parse_day(args.repaired, "repaired"), seq=4))
     if args.resurvey_failed:
-        actions.append(_action("resurvey_failed", parse_day(args.resurvey_failed, "resurvey-failed"), seq=3))
-    facts, problems = summarize(detected, actions, args.ppm)
+        actions.append(_action("resurvey_failed", parse_day(args.resurvey_failed, "resurvey-failed"), seq=5))
+    method = SurveyMethod(args.method) if args.method else program.primary_method
+    facts, problems = summarize(detected, actions, args.ppm, method)
     if problems:
         raise ValidationError(problems)
     items = [{"kind": d.kind, "due": d.due.isoformat() if d.due else None, "rule": d.rule,
@@ -130,7 +152,8 @@ def cmd_deadlines(args: argparse.Namespace) -> int:
               "done_on": d.done_on.isoformat() if d.done_on else None}
              for d in deadlines(program, facts, catalog.holidays_for(program))]
     if args.json:
-        emit_json({"program": program.id, "tier": program.tier_for(args.ppm).label, "items": items})
+        emit_json({"program": program.id, "tier": program.tier_for(args.ppm, method).label,
+                   "method": method.value, "items": items})
     else:
         emit_table(items, ("kind", "due", "done_on", "rule", "citation", "status"))
     return 0

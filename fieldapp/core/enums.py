@@ -13,6 +13,7 @@ class SiteKind(StrEnum):
     SMALL_WELL_SITE = "small_well_site"
     MULTI_WELLHEAD = "multi_wellhead"
     WELL_SITE_MAJOR_EQUIPMENT = "well_site_major_equipment"
+    CENTRALIZED_PRODUCTION_FACILITY = "centralized_production_facility"
     TANK_BATTERY = "tank_battery"
     COMPRESSOR_STATION = "compressor_station"
     GAS_PLANT = "gas_plant"
@@ -68,6 +69,13 @@ class ActionKind(StrEnum):
     RESURVEY_PASSED = "resurvey_passed"
     RESURVEY_FAILED = "resurvey_failed"
     VOIDED = "voided"
+
+
+class DelayKind(StrEnum):
+    """Which delay-of-repair route applies: a shutdown (or blowdown, shut-in, safety) or awaited parts."""
+
+    SHUTDOWN = "shutdown"
+    PARTS = "parts"
 
 
 class LeakState(StrEnum):

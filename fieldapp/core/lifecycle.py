@@ -20,7 +20,7 @@ from dataclasses import dataclass, field
 from datetime import date
 
 from fieldapp.core.dates import HolidayTest, add_span, no_holidays
-from fieldapp.core.enums import ActionKind, LeakState
+from fieldapp.core.enums import ActionKind, DelayKind, LeakState, SurveyMethod
 from fieldapp.core.fields import FieldProblem
 from fieldapp.core.program import DeadlineRule, Program
 from fieldapp.core.records import Action
@@ -30,12 +30,15 @@ TERMINAL = (LeakState.CLOSED, LeakState.VOID)
 
 @dataclass(frozen=True, slots=True)
 class DelayFacts:
-    """The delay of repair in force."""
+    """The delay of repair in force (a later delay action adds to it: e.g. the date parts arrived)."""
 
     on: date
     reason: str
     planned_on: date | None
     shutdown_on: date | None
+    kind: DelayKind = DelayKind.SHUTDOWN
+    parts_ordered_on: date | None = None
+    parts_received_on: date | None = None
 
 
 @dataclass(frozen=True, slots=True)
@@ -44,6 +47,7 @@ class LeakFacts:
 
     detected_on: date
     screening_ppm: float | None = None
+    method: SurveyMethod | None = None
     state: LeakState = LeakState.OPEN
     first_attempt_on: date | None = None
     first_repair_on: date | None = None
@@ -52,6 +56,7 @@ class LeakFacts:
     repaired_after_failure_on: date | None = None
     delay: DelayFacts | None = None
     resurveyed_on: date | None = None
+    resurvey_method: SurveyMethod | None = None
     closed_on: date | None = None
 
 
@@ -88,16 +93,20 @@ def order(actions: Sequence[Action]) -> list[Action]:
     return sorted(actions, key=lambda a: (a.done_on, a.seq, a.id))
 
 
-def summarize(detected_on: date, actions: Sequence[Action], screening_ppm: float | None = None
-              ) -> tuple[LeakFacts, list[FieldProblem]]:
-    """Walk the actions in order; returns the facts and any impossible step, named by field."""
+def summarize(detected_on: date, actions: Sequence[Action], screening_ppm: float | None = None,
+              method: SurveyMethod | None = None) -> tuple[LeakFacts, list[FieldProblem]]:
+    """Walk the actions in order; returns the facts and any impossible step, named by field.
+
+    ``method`` is how the leak was found (it picks the repair tier of programs that tell methods apart).
+    """
     w = _Walk()
     problems: list[FieldProblem] = []
     for a in order(actions):
         problem = _step(w, a, detected_on)
         if problem:
             problems.append(FieldProblem(problem[0], f"{a.kind.value} on {a.done_on}: {problem[1]}"))
-    return LeakFacts(detected_on=detected_on, screening_ppm=screening_ppm, state=w.state, **w.facts), problems
+    return LeakFacts(detected_on=detected_on, screening_ppm=screening_ppm, method=method, state=w.state,
+                     **w.facts), problems
 
 
 def _step(w: _Walk, a: Action, detected_on: date) -> tuple[str, str] | None:
@@ -131,6 +140,7 @@ def _step(w: _Walk, a: Action, detected_on: date) -> tuple[str, str] | None:
         if s is not LeakState.REPAIRED:
             return "kind", "a resurvey needs a repair first"
         f["resurveyed_on"] = a.done_on
+        f["resurvey_method"] = a.method
         if kind is ActionKind.RESURVEY_PASSED:
             w.state = LeakState.CLOSED
             f["closed_on"] = a.done_on
@@ -143,8 +153,35 @@ def _step(w: _Walk, a: Action, detected_on: date) -> tuple[str, str] | None:
             return "kind", "the leak is repaired; a delay of repair no longer applies"
         if not a.reason:
             return "reason", "a reason is required for a delay of repair"
-        f["delay"] = DelayFacts(a.done_on, a.reason, a.planned_on, a.shutdown_on)
+        problem = _delay_step(f, a)
+        if problem:
+            return problem
         w.state = LeakState.DELAYED
+    return None
+
+
+def _delay_step(f: dict, a: Action) -> tuple[str, str] | None:
+    """Record a delay action; a later one on the same route keeps what the earlier one recorded."""
+    kind = a.delay_kind or DelayKind.SHUTDOWN
+    before: DelayFacts | None = f.get("delay")
+    same = before is not None and before.kind is kind
+    ordered = a.parts_ordered_on or (before.parts_ordered_on if same else None)
+    received = a.parts_received_on or (before.parts_received_on if same else None)
+    if kind is DelayKind.PARTS:
+        if received is not None and ordered is None:
+            return "parts_ordered_on", "is required once the replacement is received"
+        if ordered is not None and ordered > a.done_on:
+            return "parts_ordered_on", f"is after the delay was recorded ({a.done_on})"
+        if received is not None and ordered is not None and received < ordered:
+            return "parts_received_on", f"is before the part was ordered ({ordered})"
+        if received is not None and received > a.done_on:
+            return "parts_received_on", f"is after the delay was recorded ({a.done_on})"
+    elif a.parts_ordered_on or a.parts_received_on:
+        field_name = "parts_ordered_on" if a.parts_ordered_on else "parts_received_on"
+        return field_name, "applies only to a delay of kind parts"
+    planned = a.planned_on or (before.planned_on if same else None)
+    shutdown = a.shutdown_on or (before.shutdown_on if same else None)
+    f["delay"] = DelayFacts(before.on if same else a.done_on, a.reason, planned, shutdown, kind, ordered, received)
     return None
 
 
@@ -166,44 +203,89 @@ def _make(rule: DeadlineRule, due: date | None, done: date | None, note: str = "
     return Deadline(rule.kind, due, _describe(rule), rule.citation, rule.status, done, note or rule.note)
 
 
+def _final_due(program: Program, facts: LeakFacts, is_holiday: HolidayTest) -> tuple[date | None, date | None]:
+    """(first-attempt due, final-repair due) of a leak under its tier, None when the tier sets none."""
+    rules = program.tier_for(facts.screening_ppm, facts.method).rules
+    first = rules.get("first_attempt")
+    first_due = _due(first, facts.detected_on, is_holiday) if first else None
+    final = rules.get("final_repair")
+    if final is None:
+        return first_due, None
+    if final.start == "first_attempt":
+        candidates = [d for d in (facts.first_attempt_on, first_due) if d is not None]
+        base = min(candidates) if candidates else facts.detected_on
+    else:
+        base = facts.detected_on
+    return first_due, _due(final, base, is_holiday)
+
+
+def _completion_due(rule: DeadlineRule, start: date | None, final_due: date | None, limit: Deadline | None,
+                    is_holiday: HolidayTest) -> date | None:
+    """Due date of a rule that completes the repair (resurvey, re-repair).
+
+    A rule counted from the final-repair deadline falls on it, or on the delay limit while a delay of
+    repair is in force.
+    """
+    if rule.start == "final_repair_deadline":
+        base = limit.due if limit is not None and limit.due is not None else final_due
+        return None if base is None else _due(rule, base, is_holiday)
+    return None if start is None else _due(rule, start, is_holiday)
+
+
 def deadlines(program: Program, facts: LeakFacts, is_holiday: HolidayTest = no_holidays) -> list[Deadline]:
     """Every deadline of a leak under its program, met or not.
 
-    The final repair counted from the first attempt starts at the earlier of the first attempt and
-    its due date, so a late first attempt never buys more time (a conservative reading, no source).
+    The tier follows the leak's screening value and detection method. The final repair counted from
+    the first attempt starts at the earlier of the first attempt and its due date, so a late first
+    attempt never buys more time (a conservative reading, no source).
     """
-    tier = program.tier_for(facts.screening_ppm)
-    rules = tier.rules
+    rules = program.tier_for(facts.screening_ppm, facts.method).rules
     out: list[Deadline] = []
+    first_due, final_due = _final_due(program, facts, is_holiday)
     first = rules.get("first_attempt")
-    first_due = _due(first, facts.detected_on, is_holiday) if first else None
     if first:
         out.append(_make(first, first_due, facts.first_attempt_on))
     final = rules.get("final_repair")
     if final:
-        if final.start == "first_attempt":
-            candidates = [d for d in (facts.first_attempt_on, first_due) if d is not None]
-            base = min(candidates) if candidates else facts.detected_on
-        else:
-            base = facts.detected_on
-        final_due = _due(final, base, is_holiday)
         note = ""
         if facts.delay and not facts.first_repair_on:
             note = f"on delay of repair since {facts.delay.on}"
         out.append(_make(final, final_due, facts.first_repair_on, note))
+    limit = None
+    if facts.delay and program.delay:
+        out.extend(delay_deadlines(program, facts, is_holiday))
+        limit = next((d for d in out if d.kind == "delay_limit"), None)
     resurvey = rules.get("resurvey")
     if resurvey and facts.repaired_on:
         done = facts.resurveyed_on if facts.resurveyed_on and facts.resurveyed_on >= facts.repaired_on else None
-        out.append(_make(resurvey, _due(resurvey, facts.repaired_on, is_holiday), done))
+        due = _completion_due(resurvey, facts.repaired_on, final_due, limit, is_holiday)
+        out.append(_make(resurvey, due, done))
     if facts.failed_on:
         again = rules.get("re_repair") or final
         if again:
-            rule = DeadlineRule("re_repair", again.span, "resurvey_failed", again.citation, again.status,
-                                again.note)
-            out.append(_make(rule, _due(rule, facts.failed_on, is_holiday), facts.repaired_after_failure_on))
-    if facts.delay and program.delay:
-        out.append(delay_limit(program, facts))
+            start = "final_repair_deadline" if again.start == "final_repair_deadline" else "resurvey_failed"
+            rule = DeadlineRule("re_repair", again.span, start, again.citation, again.status, again.note)
+            due = _completion_due(rule, facts.failed_on, final_due, limit, is_holiday)
+            out.append(_make(rule, due, facts.repaired_after_failure_on))
     return out
+
+
+def delay_deadlines(program: Program, facts: LeakFacts, is_holiday: HolidayTest = no_holidays) -> list[Deadline]:
+    """Deadlines of the delay of repair in force: the parts order (parts route) and the delay limit."""
+    rule = program.delay
+    assert rule is not None and facts.delay is not None
+    if facts.delay.kind is DelayKind.PARTS and rule.parts is not None:
+        parts = rule.parts
+        first_due, _final = _final_due(program, facts, is_holiday)
+        candidates = [d for d in (facts.first_attempt_on, first_due) if d is not None]
+        base = min(candidates) if parts.order.start == "first_attempt" and candidates else facts.detected_on
+        order = _make(parts.order, _due(parts.order, base, is_holiday), facts.delay.parts_ordered_on)
+        received = facts.delay.parts_received_on
+        done = facts.repaired_on if facts.repaired_on and facts.repaired_on >= facts.delay.on else None
+        note = "" if received else "due date set when the replacement is received: record its receipt"
+        limit = _make(parts.repair, _due(parts.repair, received, is_holiday) if received else None, done, note)
+        return [order, limit]
+    return [delay_limit(program, facts)]
 
 
 def delay_limit(program: Program, facts: LeakFacts) -> Deadline:

@@ -18,8 +18,15 @@ from fieldapp.core.fields import FieldProblem
 STATUSES = ("text", "memory", "summary", "company")
 UNITS = ("calendar_days", "business_days", "months", "years")
 DEADLINE_KINDS = ("first_attempt", "final_repair", "resurvey", "re_repair")
-DEADLINE_STARTS = ("detection", "first_attempt", "repair", "resurvey_failed")
+DEADLINE_STARTS = ("detection", "first_attempt", "repair", "resurvey_failed", "final_repair_deadline")
+# "final_repair_deadline": the deadline falls on the final-repair deadline itself (plus ``within``), as for a
+# resurvey that completes the repair (40 CFR 60.5397a(h)(4), 60.5397b(h)(4)).
 PERIODS = ("month", "bimonth", "quarter", "half", "year")
+# Survey fields a program may require. "deviations" means the deviations from the monitoring plan or
+# the statement that there were none; ended_at, areas_done and deviations are checked when a survey ends.
+SURVEY_RECORD_FIELDS = ("started_at", "ended_at", "operator", "qualification", "camera_make", "camera_model",
+                        "camera_serial", "camera_check", "camera_check_note", "ambient_temp_c", "sky",
+                        "wind_speed_m_s", "wind_max_m_s", "areas", "areas_done", "deviations")
 
 
 @dataclass(frozen=True, slots=True)
@@ -48,16 +55,38 @@ class DeadlineRule:
 
     def describe(self) -> str:
         """Human text, e.g. 'first attempt within 30 calendar days of detection'."""
-        return f"{self.kind.replace('_', ' ')} within {self.span.describe()} of {self.start.replace('_', ' ')}"
+        names = {"delay_limit": "repair", "parts_order": "replacement ordered"}
+        what = names.get(self.kind, self.kind.replace("_", " "))
+        if self.start == "parts_received":
+            return f"{what} within {self.span.describe()} after the replacement is received"
+        if self.start == "final_repair_deadline":
+            if self.span.amount == 0:
+                return f"{what} by the final-repair deadline"
+            return f"{what} within {self.span.describe()} after the final-repair deadline"
+        return f"{what} within {self.span.describe()} of {self.start.replace('_', ' ')}"
 
 
 @dataclass(frozen=True, slots=True)
 class RepairTier:
-    """The repair deadlines for leaks at or above a screening value (``min_ppm`` None = any leak)."""
+    """The repair deadlines for leaks at or above a screening value (``min_ppm`` None = any leak).
+
+    ``methods`` limits the tier to leaks found by those methods (empty: any method); a tier naming the
+    leak's method is preferred over one that names none. ``resurvey_methods`` lists the methods a
+    resurvey of such a leak may use (empty: any).
+    """
 
     label: str
     min_ppm: float | None
     rules: Mapping[str, DeadlineRule]
+    methods: tuple[SurveyMethod, ...] = ()
+    resurvey_methods: tuple[SurveyMethod, ...] = ()
+    citation: str = ""
+    status: str = ""
+    fallback_if_ppm_at_most: float | None = None
+
+    def applies_to(self, method: SurveyMethod | None) -> bool:
+        """Whether the tier covers leaks found by ``method`` (None: the tier names no method)."""
+        return not self.methods or (method is not None and method in self.methods)
 
 
 @dataclass(frozen=True, slots=True)
@@ -76,6 +105,8 @@ class Inspection:
     relaxed_period: str | None = None
     note: str = ""
     alternatives: tuple[SurveyMethod, ...] = ()
+    period_sets_earliest: bool = True
+    reading: str = ""
 
     def satisfied_by(self) -> tuple[SurveyMethod, ...]:
         """Survey methods that count for this inspection (its own and its alternatives)."""
@@ -83,14 +114,27 @@ class Inspection:
 
 
 @dataclass(frozen=True, slots=True)
+class PartsRoute:
+    """Delay of repair while a replacement part is awaited: order it, then repair after receipt."""
+
+    order: DeadlineRule
+    repair: DeadlineRule
+    reasons: tuple[str, ...]
+    citation: str
+    status: str
+    note: str = ""
+
+
+@dataclass(frozen=True, slots=True)
 class DelayRule:
-    """How long a leak may stay on delay of repair."""
+    """How long a leak may stay on delay of repair (the shutdown route, and optionally the parts route)."""
 
     cap: Span | None
     until_shutdown: bool
     reasons: tuple[str, ...]
     citation: str
     status: str
+    parts: PartsRoute | None = None
 
 
 @dataclass(frozen=True, slots=True)
@@ -120,16 +164,46 @@ class Program:
     survey_limits: Mapping[str, CitedValue]
     holiday_country: str | None = None
     holiday_subdivision: str | None = None
+    primary_method: SurveyMethod = SurveyMethod.OGI
+    survey_records: CitedValue | None = None
+    leak_records: Mapping[str, CitedValue] | None = None
+    exempt_site_kinds: Mapping[str, CitedValue] | None = None
 
     def inspections_for(self, kind: SiteKind) -> list[Inspection]:
         """The inspections that apply to a site kind."""
         return [i for i in self.inspections if kind in i.site_kinds]
 
-    def tier_for(self, screening_ppm: float | None) -> RepairTier:
-        """The repair tier of a leak with this screening value (highest threshold that it reaches)."""
-        for tier in sorted(self.repair_tiers, key=lambda t: -(t.min_ppm or 0)):
-            if tier.min_ppm is None or (screening_ppm is not None and screening_ppm >= tier.min_ppm):
-                return tier
+    def site_kinds(self) -> tuple[SiteKind, ...]:
+        """Every site kind the program sets a schedule for, in declaration order."""
+        seen: dict[SiteKind, None] = {}
+        for insp in self.inspections:
+            for kind in insp.site_kinds:
+                seen.setdefault(kind, None)
+        return tuple(seen)
+
+    def kind_problem(self, kind: SiteKind) -> str | None:
+        """Why a site of this kind cannot be placed under the program (None when it can)."""
+        if self.inspections_for(kind) or kind.value in (self.exempt_site_kinds or {}):
+            return None
+        kinds = [k.value for k in self.site_kinds()] + list(self.exempt_site_kinds or {})
+        return (f"{kind.value!r} is not a site kind that program {self.id} sets a schedule for; "
+                f"allowed: {', '.join(kinds)}")
+
+    def tier_for(self, screening_ppm: float | None, method: SurveyMethod | None = None) -> RepairTier:
+        """The repair tier of a leak found by ``method`` (None: the program's primary method).
+
+        Tiers naming the method come first; among them (or, if none names it, among the tiers that
+        name no method) the highest screening threshold that the leak reaches wins.
+        """
+        method = method or self.primary_method
+        specific = [t for t in self.repair_tiers if t.methods and method in t.methods and not (
+            t.fallback_if_ppm_at_most is not None and screening_ppm is not None
+            and screening_ppm <= t.fallback_if_ppm_at_most)]
+        generic = [t for t in self.repair_tiers if not t.methods]
+        for group in (specific, generic):
+            for tier in sorted(group, key=lambda t: -(t.min_ppm or 0)):
+                if tier.min_ppm is None or (screening_ppm is not None and screening_ppm >= tier.min_ppm):
+                    return tier
         return self.repair_tiers[-1]
 
 
@@ -217,12 +291,26 @@ def _inspection(r: _Reader, data: Mapping, path: str) -> Inspection | None:
     relaxed = r.choice(data, "relaxed_period", path, PERIODS, required=False)
     if relax and not relaxed:
         r.fail(f"{path}relaxed_period", "is required when relax_after_clean is set")
+    sets_earliest = r.get(data, "period_sets_earliest", path, bool, False)
+    reading = r.get(data, "reading", path, str, False) or ""
     citation, status = r.cited(data, path)
     note = r.get(data, "note", path, str, False) or ""
     if method is None or not site_kinds:
         return None
     return Inspection(tuple(site_kinds), SurveyMethod(method), frequency, period, min_spacing, max_spacing,
-                      citation, status, relax, relaxed, note, tuple(alternatives))
+                      citation, status, relax, relaxed, note, tuple(alternatives),
+                      True if sets_earliest is None else sets_earliest, reading)
+
+
+def _methods(r: _Reader, data: Mapping, key: str, path: str) -> tuple[SurveyMethod, ...]:
+    names = tuple(m.value for m in SurveyMethod)
+    out = []
+    for i, m in enumerate(r.get(data, key, path, list, False) or []):
+        if m not in names:
+            r.fail(f"{path}{key}[{i}]", f"{m!r} is not allowed; allowed: {', '.join(names)}")
+        else:
+            out.append(SurveyMethod(m))
+    return tuple(out)
 
 
 def _tier(r: _Reader, data: Mapping, path: str) -> RepairTier | None:
@@ -239,7 +327,28 @@ def _tier(r: _Reader, data: Mapping, path: str) -> RepairTier | None:
     for kind in ("first_attempt", "final_repair"):
         if kind not in data:
             r.fail(f"{path}{kind}", "is required")
-    return RepairTier(label, None if min_ppm is None else float(min_ppm), rules)
+    methods = _methods(r, data, "methods", path)
+    resurvey_methods = _methods(r, data, "resurvey_methods", path)
+    citation = r.get(data, "citation", path, str, False) or ""
+    status = r.choice(data, "status", path, STATUSES, required=bool(citation)) or ""
+    fallback = r.get(data, "fallback_if_ppm_at_most", path, (int, float), False)
+    return RepairTier(label, None if min_ppm is None else float(min_ppm), rules, methods, resurvey_methods,
+                      citation, status, None if fallback is None else float(fallback))
+
+
+def _parts(r: _Reader, data: Mapping, path: str) -> PartsRoute | None:
+    order_sub = r.get(data, "order", path, dict)
+    repair_sub = r.get(data, "repair", path, dict)
+    order = r.deadline(order_sub, "parts_order", f"{path}order.", ("first_attempt", "detection")) \
+        if order_sub is not None else None
+    repair = r.deadline(repair_sub, "delay_limit", f"{path}repair.", ("parts_received",)) \
+        if repair_sub is not None else None
+    reasons = tuple(r.get(data, "reasons", path, list, False) or ())
+    citation, status = r.cited(data, path)
+    note = r.get(data, "note", path, str, False) or ""
+    if order is None or repair is None:
+        return None
+    return PartsRoute(order, repair, reasons, citation, status, note)
 
 
 def _cited_values(r: _Reader, data: Mapping, path: str) -> dict[str, CitedValue]:
@@ -294,10 +403,29 @@ def parse_program(data: Mapping[str, Any]) -> tuple[Program | None, list[FieldPr
             citation, status = r.cited(sub, "delay_of_repair.")
             if cap is None and not until:
                 r.fail("delay_of_repair.cap", "a cap or until_shutdown = true is required")
-            delay = DelayRule(cap, bool(until), reasons, citation, status)
+            parts = None
+            if "parts" in sub:
+                parts_sub = r.get(sub, "parts", "delay_of_repair.", dict)
+                if parts_sub is not None:
+                    parts = _parts(r, parts_sub, "delay_of_repair.parts.")
+            delay = DelayRule(cap, bool(until), reasons, citation, status, parts)
     leak_def = _cited_values(r, r.get(data, "leak_definition", "", dict) or {}, "leak_definition.")
     records = r.get(data, "survey_records", "", dict, False) or {}
     required_fields = tuple(r.get(records, "required", "survey_records.", list, False) or ())
+    for i, name in enumerate(required_fields):
+        if name not in SURVEY_RECORD_FIELDS:
+            r.fail(f"survey_records.required[{i}]", f"{name!r} is not allowed; allowed: "
+                   f"{', '.join(SURVEY_RECORD_FIELDS)}")
+    records_cited = None
+    if records:
+        rec_citation, rec_status = r.cited(records, "survey_records.")
+        records_cited = CitedValue(required_fields, rec_citation, rec_status)
+    leak_records = _cited_values(r, r.get(data, "leak_records", "", dict, False) or {}, "leak_records.")
+    primary = r.choice(data, "primary_method", "", tuple(m.value for m in SurveyMethod), required=False)
+    exempt = _cited_values(r, r.get(data, "exempt_site_kinds", "", dict, False) or {}, "exempt_site_kinds.")
+    for key in exempt:
+        if key not in {k.value for k in SiteKind}:
+            r.fail(f"exempt_site_kinds.{key}", f"is not a site kind; allowed: {allowed(SiteKind)}")
     limits = _cited_values(r, r.get(data, "survey_limits", "", dict, False) or {}, "survey_limits.")
     holidays = r.get(data, "business_days", "", dict, False) or {}
     country = r.get(holidays, "country", "business_days.", str, False) if holidays else None
@@ -310,4 +438,53 @@ def parse_program(data: Mapping[str, Any]) -> tuple[Program | None, list[FieldPr
         repair_tiers=tuple(tiers), delay=delay, leak_definition=leak_def,
         required_survey_fields=required_fields, survey_limits=limits,
         holiday_country=country, holiday_subdivision=subdivision,
+        primary_method=SurveyMethod(primary) if primary else _first_method(inspections),
+        survey_records=records_cited, leak_records=leak_records, exempt_site_kinds=exempt,
     ), []
+
+
+def _first_method(inspections: list[Inspection]) -> SurveyMethod:
+    """The method of the first inspection (OGI for a program with none)."""
+    return inspections[0].method if inspections else SurveyMethod.OGI
+
+
+def cited_values(program: Program) -> list[dict[str, Any]]:
+    """Every rule value of a program, flat, each with its key, value, citation and status."""
+    out: list[dict[str, Any]] = []
+
+    def add(key: str, value: Any, citation: str, status: str) -> None:
+        out.append({"key": key, "value": value, "citation": citation, "status": status})
+
+    def rule(key: str, r: DeadlineRule) -> None:
+        add(key, r.describe(), r.citation, r.status)
+
+    if program.initial_survey:
+        rule("initial_survey", program.initial_survey)
+    for i, insp in enumerate(program.inspections):
+        kinds = ", ".join(k.value for k in insp.site_kinds)
+        add(f"inspections[{i}]", f"{kinds}: {insp.frequency} {'/'.join(m.value for m in insp.satisfied_by())}"
+            + (f"; {insp.reading}" if insp.reading else ""), insp.citation, insp.status)
+    for i, tier in enumerate(program.repair_tiers):
+        for kind, r in tier.rules.items():
+            rule(f"repair_tiers[{i}].{kind}", r)
+        if tier.methods or tier.resurvey_methods or tier.fallback_if_ppm_at_most is not None:
+            what = f"{tier.label}: leaks found by {'/'.join(m.value for m in tier.methods) or 'any method'}"
+            if tier.resurvey_methods:
+                what += f"; resurvey by {'/'.join(m.value for m in tier.resurvey_methods)}"
+            add(f"repair_tiers[{i}]", what, tier.citation, tier.status)
+    if program.delay:
+        d = program.delay
+        limit = [x for x in ("next scheduled shutdown" if d.until_shutdown else "",
+                             f"{d.cap.describe()} after detection" if d.cap else "") if x]
+        add("delay_of_repair", "earliest of: " + ", ".join(limit), d.citation, d.status)
+        if d.parts:
+            rule("delay_of_repair.parts.order", d.parts.order)
+            rule("delay_of_repair.parts.repair", d.parts.repair)
+    for group, values in (("leak_definition", program.leak_definition), ("leak_records", program.leak_records),
+                          ("survey_limits", program.survey_limits), ("exempt_site_kinds", program.exempt_site_kinds)):
+        for key, cited in (values or {}).items():
+            add(f"{group}.{key}", cited.value, cited.citation, cited.status)
+    if program.survey_records:
+        add("survey_records.required", list(program.survey_records.value), program.survey_records.citation,
+            program.survey_records.status)
+    return out

@@ -24,6 +24,7 @@ from fieldapp.core.enums import (
     ActionKind,
     CameraCheck,
     ComponentType,
+    DelayKind,
     Service,
     SiteKind,
     SurveyMethod,
@@ -111,6 +112,9 @@ class Leak:
     measured_instrument: str = _spec(f.text(120), False, "")
     hazard: bool = _spec(f.flag, False, False, doc="large, near ignition, or may carry H2S")
     hazard_note: str = _spec(f.text(500), False, "")
+    detection_method: SurveyMethod | None = _spec(f.enum_of(SurveyMethod), doc="how the leak was found "
+                                                  "(the survey's method unless another was used)")
+    tag_attached: bool = _spec(f.flag, False, False, doc="a physical tag identifying the leak is on the component")
 
 
 @dataclass(frozen=True, slots=True)
@@ -127,6 +131,10 @@ class Action:
     planned_on: date | None = _spec(f.iso_date, doc="planned repair date (delay of repair)")
     shutdown_on: date | None = _spec(f.iso_date, doc="next scheduled shutdown (delay of repair)")
     instrument: str = _spec(f.text(120), False, "", doc="instrument of a resurvey")
+    method: SurveyMethod | None = _spec(f.enum_of(SurveyMethod), doc="method of a resurvey (ogi, method21, avo)")
+    delay_kind: DelayKind | None = _spec(f.enum_of(DelayKind), doc="delay route: shutdown or parts")
+    parts_ordered_on: date | None = _spec(f.iso_date, doc="date the replacement part was ordered (parts route)")
+    parts_received_on: date | None = _spec(f.iso_date, doc="date the replacement part was received (parts route)")
     seq: int = _spec(f.number(0, None), False, 0, doc="order of entry among actions of the same day")
 
 

@@ -2,30 +2,51 @@
 
 from __future__ import annotations
 
-from collections.abc import Mapping
+from collections.abc import Mapping, Sequence
 from typing import Any
 
 from fieldapp.core.enums import CameraCheck, SurveyMethod
 from fieldapp.core.fields import FieldProblem, is_blank
 from fieldapp.core.program import Program
-from fieldapp.core.records import Survey
+from fieldapp.core.records import Survey, as_plain
 
 CAMERA_FIELDS = ("camera_make", "camera_model", "camera_serial", "camera_check", "camera_check_note")
+# Fields known only when a survey ends: checked by ``end_problems``, not when it starts.
+END_FIELDS = ("ended_at", "areas_done", "deviations")
 
 
-def required_problems(program: Program, values: Mapping[str, Any]) -> list[FieldProblem]:
-    """Fields the program requires that are blank; camera fields only for OGI surveys."""
+def _blank(name: str, values: Mapping[str, Any]) -> bool:
+    if name == "deviations":
+        return is_blank(values.get("deviations")) and not values.get("no_deviations")
+    if name == "camera_check":
+        return is_blank(values.get(name)) or str(values.get(name)).strip().lower() in ("not_done", "not done")
+    return is_blank(values.get(name))
+
+
+def required_problems(program: Program, values: Mapping[str, Any], at_end: bool = False) -> list[FieldProblem]:
+    """Fields the program requires that are blank; camera fields only for OGI surveys.
+
+    At the start of a survey the fields known only at its end (end time, areas done, deviations) are
+    skipped; ``at_end`` checks every required field.
+    """
     method = str(values.get("method", "")).strip().lower()
     problems = []
     for name in program.required_survey_fields:
         if name in CAMERA_FIELDS and method != SurveyMethod.OGI.value:
             continue
-        if is_blank(values.get(name)) or (name == "camera_check" and values.get(name) == "not_done"):
-            problems.append(FieldProblem(name, f"is required by program {program.id} ({_citation(program)})"))
+        if name in END_FIELDS and not at_end:
+            continue
+        if _blank(name, values):
+            what = ("describe the deviations from the monitoring plan, or state that there were none "
+                    "(no_deviations)") if name == "deviations" else "is required"
+            problems.append(FieldProblem(name, f"{what}: program {program.id} asks for it ({_citation(program)})"))
     return problems
 
 
 def _citation(program: Program) -> str:
+    cited = program.survey_records
+    if cited is not None and cited.citation:
+        return f"{cited.citation}; status {cited.status}"
     return f"record keeping of {program.rule}"
 
 
@@ -44,9 +65,14 @@ def start_problems(program: Program, survey: Survey) -> list[FieldProblem]:
     return []
 
 
-def end_problems(survey: Survey) -> list[FieldProblem]:
-    """Reasons a survey cannot be ended: deviations must be stated, or their absence declared."""
+def end_problems(survey: Survey, program: Program | None = None) -> list[FieldProblem]:
+    """Reasons a survey cannot be ended: the program's required record fields, the end time, and the
+    deviations from the monitoring plan (or the statement that there were none)."""
     problems = []
+    if program is not None:
+        values = as_plain(survey)
+        problems = [p for p in required_problems(program, values, at_end=True)
+                    if p.field not in ("deviations", "ended_at")]
     if not survey.deviations and not survey.no_deviations:
         problems.append(FieldProblem("deviations", "describe the deviations from the monitoring plan, "
                                      "or state that there were none (no_deviations)"))
@@ -73,4 +99,23 @@ def condition_warnings(program: Program, survey: Survey) -> list[str]:
         limit = limits.get(key)
         if limit is not None and value is not None and outside(value, float(limit.value)):
             out.append(message.format(v=value, lim=float(limit.value)) + f" ({limit.citation})")
+    return out
+
+
+def unrepaired_without_record(program: Program, leaks: Sequence[Mapping[str, Any]]) -> list[FieldProblem]:
+    """Leaks left unrepaired at the end of their survey that have neither a photo nor a tag.
+
+    Each leak mapping holds ``tag``, ``photos`` (count), ``tag_attached`` and ``repaired_in_survey``.
+    Applies when the program's ``leak_records.photo_or_tag_if_unrepaired`` is set (40 CFR
+    60.5397a(h)(4)(ii), 60.5397b(h)(4)(ii)); these are warnings, the survey still ends.
+    """
+    rule = (program.leak_records or {}).get("photo_or_tag_if_unrepaired")
+    if rule is None or not rule.value:
+        return []
+    out = []
+    for leak in leaks:
+        if leak.get("repaired_in_survey") or leak.get("photos") or leak.get("tag_attached"):
+            continue
+        out.append(FieldProblem("photos", f"leak on {leak.get('tag')} is not repaired during the survey and has "
+                                f"no photo and no tag on the component ({rule.citation}, status {rule.status})"))
     return out

@@ -53,6 +53,13 @@ def inspection_for(program: Program, kind: SiteKind, method: SurveyMethod | None
     """The program's inspection for a site kind and method (the first one listed if method is None)."""
     found = [i for i in program.inspections_for(kind) if method is None or method in i.satisfied_by()]
     if not found:
+        exempt = (program.exempt_site_kinds or {}).get(kind.value)
+        if exempt is not None:
+            raise WindowError(f"site kind {kind.value} has no periodic survey under program {program.id}: "
+                              f"{exempt.value} ({exempt.citation})")
+        problem = program.kind_problem(kind)
+        if problem:
+            raise WindowError(problem)
         what = f" with method {method.value}" if method else ""
         raise WindowError(f"program {program.id} has no inspection for site kind {kind.value}{what}")
     return found[0]
@@ -66,7 +73,8 @@ def _rule_text(insp: Inspection, period: str | None) -> str:
         parts.append(f"at least {insp.min_spacing.describe()} apart")
     if insp.max_spacing:
         parts.append(f"at most {insp.max_spacing.describe()} apart")
-    return ", ".join(parts)
+    text = ", ".join(parts)
+    return f"{text} ({insp.reading})" if insp.reading else text
 
 
 def next_window(program: Program, kind: SiteKind, method: SurveyMethod | None,
@@ -95,7 +103,9 @@ def next_window(program: Program, kind: SiteKind, method: SurveyMethod | None,
         earliest = max(earliest, add_span(last, insp.min_spacing.amount, insp.min_spacing.unit))
     if period:
         start, end = next_period_bounds(last, period)
-        earliest, latest = max(earliest, start), end
+        latest = end
+        if insp.period_sets_earliest:
+            earliest = max(earliest, start)
     if insp.max_spacing:
         cap = add_span(last, insp.max_spacing.amount, insp.max_spacing.unit)
         latest = cap if latest is None else min(latest, cap)

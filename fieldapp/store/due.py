@@ -23,11 +23,12 @@ from fieldapp.store.reads import REPEAT_COUNT, REPEAT_MIN, local_day, make_actio
 OPEN_LEAKS = (
     "WITH open AS MATERIALIZED (SELECT l.id, l.detected_at, l.screening_ppm, l.component_id, s.id AS site_id, "
     "s.name AS site_name, s.timezone, s.program_id, c.tag, c.type AS component_type, "
-    f"{REPEAT_COUNT} AS seen_in FROM leaks l "
+    f"{REPEAT_COUNT} AS seen_in, COALESCE(l.detection_method, v.method) AS method FROM leaks l "
     "JOIN components c ON c.id = l.component_id JOIN surveys v ON v.id = l.survey_id "
     "JOIN sites s ON s.id = v.site_id WHERE l.deleted = 0 AND s.deleted = 0 {site} AND NOT EXISTS "
     "(SELECT 1 FROM actions t WHERE t.leak_id = l.id AND t.kind IN ('resurvey_passed', 'voided'))) "
-    "SELECT open.*, a.id AS action_id, a.kind, a.done_on, a.seq, a.reason, a.planned_on, a.shutdown_on "
+    "SELECT open.*, a.id AS action_id, a.kind, a.done_on, a.seq, a.reason, a.planned_on, a.shutdown_on, "
+    "a.method AS resurvey_method, a.delay_kind, a.parts_ordered_on, a.parts_received_on "
     "FROM open LEFT JOIN actions a ON a.leak_id = open.id ORDER BY open.id"
 )
 
@@ -43,12 +44,12 @@ def leak_items(store: Store, site_id: str | None = None) -> list[due_core.DueIte
     actions: list[Action] = []
 
     def flush(row: tuple) -> None:
-        leak_id, detected_at, ppm, _comp, site, site_name, tz, program_id, tag, ctype, seen_in = row[:11]
+        leak_id, detected_at, ppm, _comp, site, site_name, tz, program_id, tag, ctype, seen_in, method = row[:12]
         program = programs.get(program_id)
         if program is None:
             program = programs[program_id] = (catalog.program(program_id),
                                               catalog.holidays_for(catalog.program(program_id)))
-        facts = summarize(local_day(detected_at, tz, zones), actions, ppm)[0]
+        facts = summarize(local_day(detected_at, tz, zones), actions, ppm, SurveyMethod(method))[0]
         for deadline in outstanding(program[0], facts, program[1]):
             items.append(due_core.from_deadline(site, site_name, deadline, leak_id, tag, ctype,
                                                 seen_in >= REPEAT_MIN))
@@ -58,8 +59,8 @@ def leak_items(store: Store, site_id: str | None = None) -> list[due_core.DueIte
             flush(current)
             actions = []
         current = row
-        if row[11] is not None:
-            actions.append(make_action(row[11], row[0], *row[12:18]))
+        if row[12] is not None:
+            actions.append(make_action(row[12], row[0], *row[13:19], "", "", "", *row[19:23]))
     if current is not None:
         flush(current)
     return items
@@ -84,6 +85,10 @@ def survey_items(store: Store, site_id: str | None = None) -> tuple[list[due_cor
         program = catalog.program(site["program_id"])
         kind = SiteKind(site["kind"])
         startup = date.fromisoformat(site["startup_date"]) if site["startup_date"] else None
+        problem = program.kind_problem(kind)
+        if problem:
+            problems.append(f"{site['name']}: {problem}")
+            continue
         for insp in program.inspections_for(kind):
             past = [p for m in insp.satisfied_by() for p in by_site.get((site["id"], m.value), [])]
             try:

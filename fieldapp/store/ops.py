@@ -14,7 +14,7 @@ from typing import Any
 from fieldapp import catalog
 from fieldapp.core import survey_rules
 from fieldapp.core.dates import local_date
-from fieldapp.core.enums import ActionKind
+from fieldapp.core.enums import ActionKind, DelayKind, SurveyMethod
 from fieldapp.core.fields import FieldProblem, ValidationError
 from fieldapp.core.lifecycle import summarize
 from fieldapp.core.records import (
@@ -68,10 +68,17 @@ def _insert(store: Store, table: str, record: Any, actor: str) -> None:
 def add_site(store: Store, values: Mapping[str, Any], actor: str = "") -> Site:
     """Create a site; its program must be a known program."""
     site = _parse(Site, values)
-    catalog.program(site.program_id)
+    _check_kind(site)
     with store.transaction():
         _insert(store, "sites", site, actor)
     return site
+
+
+def _check_kind(site: Site) -> None:
+    """Refuse a site kind that the site's program does not schedule (never mapped to another kind)."""
+    problem = catalog.program(site.program_id).kind_problem(site.kind)
+    if problem:
+        raise ValidationError([FieldProblem("kind", problem)])
 
 
 def add_component(store: Store, values: Mapping[str, Any], actor: str = "") -> Component:
@@ -112,12 +119,35 @@ def end_survey(store: Store, survey_id: str, values: Mapping[str, Any], actor: s
     current = _exists(store, "surveys", survey_id, "survey_id")
     survey, problems = replace_record(_record(Survey, current), values)
     if survey is not None:
-        problems = survey_rules.end_problems(survey)
+        program = catalog.program(store.get("sites", survey.site_id)["program_id"])
+        problems = survey_rules.end_problems(survey, program)
     if problems:
         raise ValidationError(problems)
     with store.transaction():
         store.update("surveys", survey_id, {k: as_plain(survey)[k] for k in values}, actor)
     return survey
+
+
+def survey_record_warnings(store: Store, survey_id: str) -> list[str]:
+    """What the survey's program asks of its leak records that is missing (warnings, nothing refused).
+
+    Today: a leak not repaired during its survey needs a photo or a tag on the component.
+    """
+    survey = _exists(store, "surveys", survey_id, "survey_id")
+    site = store.get("sites", survey["site_id"])
+    program = catalog.program(site["program_id"])
+    leaks = store.rows(
+        "SELECT l.id, l.detected_at, l.tag_attached, c.tag, (SELECT COUNT(*) FROM media m WHERE m.leak_id = l.id "
+        "AND m.deleted = 0) AS photos FROM leaks l JOIN components c ON c.id = l.component_id "
+        "WHERE l.survey_id = ? AND l.deleted = 0 ORDER BY l.detected_at", (survey_id,))
+    end_day = None
+    if survey["ended_at"]:
+        end_day = local_date(datetime.fromisoformat(survey["ended_at"]), site["timezone"]).isoformat()
+    for leak in leaks:
+        repaired = store.rows("SELECT 1 FROM actions WHERE leak_id = ? AND kind = 'repaired' AND done_on <= ?",
+                              (leak["id"], end_day or "")) if end_day else []
+        leak["repaired_in_survey"] = bool(repaired)
+    return [p.message for p in survey_rules.unrepaired_without_record(program, leaks)]
 
 
 def add_leak(store: Store, values: Mapping[str, Any], new_component: Mapping[str, Any] | None = None,
@@ -130,6 +160,8 @@ def add_leak(store: Store, values: Mapping[str, Any], new_component: Mapping[str
             component = add_component(store, {**new_component, "site_id": survey["site_id"]}, actor)
             values["component_id"] = component.id
         leak = _parse(Leak, values)
+        if leak.detection_method is None:
+            leak = replace_record(leak, {"detection_method": survey["method"]})[0]
         comp = _exists(store, "components", leak.component_id, "component_id")
         if comp["site_id"] != survey["site_id"]:
             raise ValidationError([FieldProblem("component_id", "belongs to another site than the survey")])
@@ -167,17 +199,45 @@ def add_action(store: Store, values: Mapping[str, Any], actor: str = "") -> Acti
         if action.done_on > today:
             raise ValidationError([FieldProblem("done_on", f"is in the future (today is {today} at the site)")])
         program = catalog.program(site["program_id"])
-        if action.kind is ActionKind.DELAY_OF_REPAIR:
-            if program.delay is None:
-                raise ValidationError([FieldProblem("kind", f"program {program.id} has no delay of repair")])
-            if program.delay.until_shutdown and program.delay.cap is None and not action.shutdown_on:
-                raise ValidationError([FieldProblem("shutdown_on", "is required: the delay lasts until the "
-                                                    "next shutdown")])
-        _facts, problems = summarize(detected, [*existing, action], leak_row["screening_ppm"])
+        method = leak_method(store, leak_row)
+        _check_action_rules(program, action, leak_row["screening_ppm"], method)
+        _facts, problems = summarize(detected, [*existing, action], leak_row["screening_ppm"], method)
         if problems:
             raise ValidationError(problems)
         _insert(store, "actions", action, actor)
     return action
+
+
+def leak_method(store: Store, leak_row: Mapping[str, Any]) -> SurveyMethod:
+    """How a leak was found: its own detection method, else its survey's method."""
+    if leak_row.get("detection_method"):
+        return SurveyMethod(leak_row["detection_method"])
+    return SurveyMethod(store.get("surveys", leak_row["survey_id"])["method"])
+
+
+def _check_action_rules(program, action: Action, screening_ppm: float | None, method: SurveyMethod) -> None:
+    """What the leak's program allows of this action: delay routes and resurvey methods."""
+    if action.kind is ActionKind.DELAY_OF_REPAIR:
+        if program.delay is None:
+            raise ValidationError([FieldProblem("kind", f"program {program.id} has no delay of repair")])
+        if action.delay_kind is DelayKind.PARTS and program.delay.parts is None:
+            raise ValidationError([FieldProblem("delay_kind", f"program {program.id} has no delay for parts; "
+                                                "allowed: shutdown")])
+        if (action.delay_kind or DelayKind.SHUTDOWN) is DelayKind.SHUTDOWN and program.delay.until_shutdown \
+                and program.delay.cap is None and not action.shutdown_on:
+            raise ValidationError([FieldProblem("shutdown_on", "is required: the delay lasts until the "
+                                                "next shutdown")])
+    elif action.delay_kind or action.parts_ordered_on or action.parts_received_on:
+        raise ValidationError([FieldProblem("delay_kind", "applies only to a delay of repair")])
+    if action.method is not None and action.kind not in (ActionKind.RESURVEY_PASSED, ActionKind.RESURVEY_FAILED):
+        raise ValidationError([FieldProblem("method", "is the method of a resurvey; leave it blank for "
+                                            f"{action.kind.value.replace('_', ' ')}")])
+    if action.method is not None:
+        tier = program.tier_for(screening_ppm, method)
+        if tier.resurvey_methods and action.method not in tier.resurvey_methods:
+            allowed_methods = ", ".join(m.value for m in tier.resurvey_methods)
+            raise ValidationError([FieldProblem("method", f"a leak found by {method.value} may be resurveyed by "
+                                                f"{allowed_methods} ({tier.citation or program.rule})")])
 
 
 def edit(store: Store, table: str, row_id: str, changes: Mapping[str, Any], actor: str = "") -> dict:
@@ -193,7 +253,7 @@ def edit(store: Store, table: str, row_id: str, changes: Mapping[str, Any], acto
     if problems:
         raise ValidationError(problems)
     if table == "sites":
-        catalog.program(updated.program_id)
+        _check_kind(updated)
     plain = as_plain(updated)
     with store.transaction():
         try:

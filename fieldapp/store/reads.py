@@ -8,7 +8,7 @@ from datetime import date, datetime
 from typing import Any
 from zoneinfo import ZoneInfo
 
-from fieldapp.core.enums import ActionKind
+from fieldapp.core.enums import ActionKind, DelayKind, SurveyMethod
 from fieldapp.core.fields import FieldProblem, ValidationError
 from fieldapp.core.lifecycle import LeakFacts, summarize
 from fieldapp.core.records import Action
@@ -43,23 +43,41 @@ def list_surveys(store: Store, site_id: str | None = None) -> list[dict[str, Any
     )
 
 
+def _day(text: str | None) -> date | None:
+    return date.fromisoformat(text) if text else None
+
+
 def make_action(action_id: str, leak_id: str, kind: str, done_on: str, seq: int | None, reason: str | None,
                 planned_on: str | None, shutdown_on: str | None, actor: str = "", note: str = "",
-                instrument: str = "") -> Action:
+                instrument: str = "", method: str | None = None, delay_kind: str | None = None,
+                parts_ordered_on: str | None = None, parts_received_on: str | None = None) -> Action:
     """An action record from trusted stored values (no re-validation)."""
     return Action(
         id=action_id, leak_id=leak_id, kind=ActionKind(kind), done_on=date.fromisoformat(done_on), actor=actor or "",
-        reason=reason or "", planned_on=date.fromisoformat(planned_on) if planned_on else None,
-        shutdown_on=date.fromisoformat(shutdown_on) if shutdown_on else None, seq=seq or 0, note=note or "",
-        instrument=instrument or "",
+        reason=reason or "", planned_on=_day(planned_on), shutdown_on=_day(shutdown_on), seq=seq or 0,
+        note=note or "", instrument=instrument or "", method=SurveyMethod(method) if method else None,
+        delay_kind=DelayKind(delay_kind) if delay_kind else None, parts_ordered_on=_day(parts_ordered_on),
+        parts_received_on=_day(parts_received_on),
     )
+
+
+# The action columns the state machine needs, in make_action's order after (id, leak_id).
+ACTION_FACT_COLUMNS = ("kind", "done_on", "seq", "reason", "planned_on", "shutdown_on")
+ACTION_ROUTE_COLUMNS = ("method", "delay_kind", "parts_ordered_on", "parts_received_on")
 
 
 def action_from_row(row: dict[str, Any]) -> Action:
     """An action record from a stored row (a dict of actions columns)."""
     return make_action(row["id"], row["leak_id"], row["kind"], row["done_on"], row.get("seq"), row.get("reason"),
                        row.get("planned_on"), row.get("shutdown_on"), row.get("actor", ""), row.get("note", ""),
-                       row.get("instrument", ""))
+                       row.get("instrument", ""), row.get("method"), row.get("delay_kind"),
+                       row.get("parts_ordered_on"), row.get("parts_received_on"))
+
+
+def leak_method_of(row: dict[str, Any]) -> SurveyMethod | None:
+    """How a leak row was found: its detection method, else its survey's method (``survey_method``)."""
+    name = row.get("detection_method") or row.get("survey_method")
+    return SurveyMethod(name) if name else None
 
 
 def local_day(moment: str, tz_name: str, zones: dict[str, ZoneInfo] | None = None) -> date:
@@ -77,7 +95,8 @@ def facts_for(leaks: Iterable[dict[str, Any]], actions: Iterable[dict[str, Any]]
     out = {}
     for leak in leaks:
         detected = local_day(leak["detected_at"], leak["timezone"], zones)
-        out[leak["id"]] = summarize(detected, by_leak.get(leak["id"], []), leak["screening_ppm"])[0]
+        out[leak["id"]] = summarize(detected, by_leak.get(leak["id"], []), leak["screening_ppm"],
+                                    leak_method_of(leak))[0]
     return out
 
 

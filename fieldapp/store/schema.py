@@ -176,6 +176,23 @@ def _v7(conn: sqlite3.Connection) -> None:
     run_script(conn, "CREATE INDEX journal_batch ON journal(row_id) WHERE op = 'insert_batch';")
 
 
+@migration(8, "leak detection method, resurvey method and the parts route of delay of repair")
+def _v8(conn: sqlite3.Connection) -> None:
+    # No backfill: a leak without a detection method was found by its survey's method (reads use
+    # COALESCE), so no row changes outside the journal.
+    run_script(
+        conn,
+        """
+        ALTER TABLE leaks ADD COLUMN detection_method TEXT;
+        ALTER TABLE leaks ADD COLUMN tag_attached INTEGER NOT NULL DEFAULT 0;
+        ALTER TABLE actions ADD COLUMN method TEXT;
+        ALTER TABLE actions ADD COLUMN delay_kind TEXT;
+        ALTER TABLE actions ADD COLUMN parts_ordered_on TEXT;
+        ALTER TABLE actions ADD COLUMN parts_received_on TEXT;
+        """,
+    )
+
+
 LATEST = MIGRATIONS[-1][0]
 
 
