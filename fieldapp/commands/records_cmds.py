@@ -6,7 +6,9 @@ import argparse
 import os
 from pathlib import Path
 
-from fieldapp.cli import emit_json, emit_table, open_store
+from fieldapp.cli import emit_json, emit_table, open_store, required_text
+
+MIN_SIDE, MAX_SIDE = 100, 8192  # screenshot size limits in pixels
 
 
 def register(sub: argparse._SubParsersAction) -> None:
@@ -113,12 +115,13 @@ def cmd_sites(args: argparse.Namespace) -> int:
 def _site_id(store, key: str | None) -> str | None:
     from fieldapp.store.reads import resolve_site
 
-    return resolve_site(store, key)["id"] if key else None
+    return resolve_site(store, key)["id"] if required_text(key, "site") is not None else None
 
 
 def cmd_surveys(args: argparse.Namespace) -> int:
     from fieldapp.store.reads import list_surveys
 
+    required_text(args.site, "site")
     store = open_store(args)
     rows = list_surveys(store, _site_id(store, args.site))
     if args.json:
@@ -131,6 +134,7 @@ def cmd_surveys(args: argparse.Namespace) -> int:
 def cmd_leaks(args: argparse.Namespace) -> int:
     from fieldapp.store.reads import list_leaks
 
+    required_text(args.site, "site")
     store = open_store(args)
     rows = list_leaks(store, _site_id(store, args.site), open_only=args.open)
     if args.json:
@@ -164,9 +168,12 @@ def cmd_history(args: argparse.Namespace) -> int:
 
 
 def cmd_import_components(args: argparse.Namespace) -> int:
+    from fieldapp.paths import input_file
     from fieldapp.store.importer import import_components
     from fieldapp.store.reads import resolve_site
 
+    required_text(args.site, "site")
+    input_file(args.file, "file")
     store = open_store(args)
     site = resolve_site(store, args.site)
     count = import_components(store, args.file, site["id"], args.actor)
@@ -193,10 +200,16 @@ def cmd_app(args: argparse.Namespace) -> int:
         raise ValidationError([FieldProblem("screen", f"{args.screen!r} is not allowed; allowed: "
                                             f"{', '.join(SCREEN_CHOICES)}")])
     if args.screenshot:
+        from fieldapp.paths import output_file
+
         try:
             width, height = (int(v) for v in args.size.lower().split("x"))
         except ValueError:
-            raise ValidationError([FieldProblem("size", "write WIDTHxHEIGHT, e.g. 1280x800")]) from None
+            width = height = -1
+        if not (MIN_SIDE <= width <= MAX_SIDE and MIN_SIDE <= height <= MAX_SIDE):
+            raise ValidationError([FieldProblem("size", f"{args.size[:40]!r}: write WIDTHxHEIGHT with each side "
+                                                f"{MIN_SIDE} to {MAX_SIDE} pixels, e.g. 1280x800")])
+        output_file(args.screenshot, "screenshot")
         os.environ.setdefault("SDL_VIDEODRIVER", "offscreen" if not has_display() else "")
         os.environ.update(KCFG_GRAPHICS_WIDTH=str(width), KCFG_GRAPHICS_HEIGHT=str(height), KIVY_NO_ARGS="1",
                           KIVY_NO_CONFIG="1", KIVY_NO_FILELOG="1")
