@@ -29,7 +29,11 @@ MAX_LINE = 600
 def one_line(text: str) -> str:
     """A message made printable on one terminal line: line breaks and control characters escaped,
     bytes that are not UTF-8 shown as \\x.. escapes, at most ``MAX_LINE`` characters."""
-    text = text.encode("utf-8", "backslashreplace").decode("utf-8")
+    try:  # bytes a Linux command line could not decode arrive surrogate-escaped: show them as \xNN
+        raw = text.encode("utf-8", "surrogateescape")
+    except UnicodeEncodeError:
+        raw = text.encode("utf-8", "backslashreplace")
+    text = raw.decode("utf-8", "backslashreplace")
     text = "".join(ch if ch.isprintable() else ch.encode("unicode_escape").decode("ascii") for ch in text)
     return text if len(text) <= MAX_LINE else f"{text[:MAX_LINE - 3]}..."
 

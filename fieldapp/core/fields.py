@@ -112,9 +112,9 @@ def number(minimum: float | None = None, maximum: float | None = None, unit: str
             raise FieldValueError("a finite number is required")
         suffix = f" {unit}" if unit else ""
         if minimum is not None and result < minimum:
-            raise FieldValueError(f"must be at least {minimum:g}{suffix}, got {result:g}")
+            raise FieldValueError(f"must be at least {minimum:.15g}{suffix}, got {result:.15g}")
         if maximum is not None and result > maximum:
-            raise FieldValueError(f"must be at most {maximum:g}{suffix}, got {result:g}")
+            raise FieldValueError(f"must be at most {maximum:.15g}{suffix}, got {result:.15g}")
         return result
 
     return parse

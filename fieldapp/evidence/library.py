@@ -49,11 +49,15 @@ class Library:
             return target
         target.parent.mkdir(parents=True, exist_ok=True)
         tmp = target.parent / f"{TEMP_PREFIX}{sha256[:16]}-{os.getpid()}"
-        with open(tmp, "wb") as fh:
-            fh.write(data)
-            fh.flush()
-            os.fsync(fh.fileno())
-        os.replace(tmp, target)
+        try:
+            with open(tmp, "wb") as fh:
+                fh.write(data)
+                fh.flush()
+                os.fsync(fh.fileno())
+            os.replace(tmp, target)
+        except BaseException:  # a full disk or a kill of the thread: no temp file left behind
+            tmp.unlink(missing_ok=True)
+            raise
         fsync_dir(target.parent)
         return target
 
