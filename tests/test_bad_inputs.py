@@ -361,3 +361,17 @@ def test_good_input_still_works_after_the_bad(world, capsys, tmp_path):
     assert main(["--db", str(db), "estimate", "--type", "valve", "--service", "gas", "--method", "method21",
                  "--ppm", "1000000"]) == 0
     capsys.readouterr()
+
+
+def test_a_real_command_line_with_bytes_that_are_not_utf8(world, tmp_path):
+    """Through the installed entry point, as a shell passes a Latin-1 file name: one line, exit 2."""
+    import os
+    import subprocess
+    import sys
+
+    name = os.fsencode(str(world["files"])) + b"/caf\xe9.csv"
+    result = subprocess.run([sys.executable, "-m", "fieldapp", "--db", os.fsencode(str(world["db"])), "import",
+                             "components", name, "--site", DEMO_SITE], capture_output=True)
+    err = result.stderr.decode("utf-8", "replace")
+    assert result.returncode == 2 and "Traceback" not in err
+    assert len(err.splitlines()) == 1 and "UTF-8" in err and "caf\\xe9.csv" in err
