@@ -53,10 +53,13 @@ def mp4_short_mvhd() -> bytes:
 @pytest.fixture(scope="module")
 def world(tmp_path_factory):
     """A demo store and a folder of bad (and one good) input files."""
-    import os
+    with pytest.MonkeyPatch.context() as env:
+        env.delenv("DISPLAY", raising=False)
+        env.delenv("WAYLAND_DISPLAY", raising=False)
+        yield _world(tmp_path_factory)
 
-    os.environ.pop("DISPLAY", None)
-    os.environ.pop("WAYLAND_DISPLAY", None)
+
+def _world(tmp_path_factory):
     root = tmp_path_factory.mktemp("bad")
     db = root / "demo.db"
     assert main(["--db", str(db), "demo", "--no-app"]) == 0

@@ -75,10 +75,13 @@ TEMPLATES = [
 
 @pytest.fixture(scope="module")
 def world(tmp_path_factory):
-    import os
+    with pytest.MonkeyPatch.context() as env:
+        env.delenv("DISPLAY", raising=False)
+        env.delenv("WAYLAND_DISPLAY", raising=False)
+        yield _world(tmp_path_factory)
 
-    os.environ.pop("DISPLAY", None)
-    os.environ.pop("WAYLAND_DISPLAY", None)
+
+def _world(tmp_path_factory):
     root = tmp_path_factory.mktemp("fuzz")
     db = root / "demo.db"
     assert main(["--db", str(db), "demo", "--no-app"]) == 0

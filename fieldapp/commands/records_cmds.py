@@ -73,7 +73,9 @@ def cmd_demo(args: argparse.Namespace) -> int:
     from fieldapp import demo
 
     if args.reset:
-        _remove_store(args.db)
+        from fieldapp.paths import store_file
+
+        _remove_store(store_file(args.db))
     store = open_store(args)
     counts = demo.load(store)
     print(f"demo loaded into {store.path}: " + ", ".join(f"{v} {k}" for k, v in counts.items()))

@@ -45,7 +45,7 @@ def _period(args: argparse.Namespace):
     start = parse_day(args.start, "from") if args.start is not None else None
     end = parse_day(args.end, "to") if args.end is not None else None
     if start and end and end < start:
-        raise ValidationError([FieldProblem("to", f"{end} is before --from {start}")])
+        raise ValidationError([FieldProblem("to", f"must not be before --from ({start}); got {end}")])
     return start, end
 
 

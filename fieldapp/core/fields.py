@@ -50,7 +50,7 @@ DATE_MAX = date(2999, 12, 31)
 """Supported dates: 1900-01-01 to 2999-12-31, so every deadline and window computed from one (years
 added) stays inside what Python's calendar holds (year 9999)."""
 DATE_RANGE = f"{DATE_MIN.isoformat()} to {DATE_MAX.isoformat()}"
-CONTROL_CHARACTERS = frozenset(chr(c) for c in (*range(32), 127)) | {"\x85", "\u2028", "\u2029"}
+CONTROL_CHARACTERS = frozenset(chr(c) for c in range(32)) | {"\x85", "\u2028", "\u2029"}  # C0 and line breaks
 
 
 def is_blank(value: Any) -> bool:
@@ -66,18 +66,18 @@ def has_control(value: str, allow_breaks: bool = False) -> bool:
 
 
 def text(max_len: int = 500, single_line: bool = False) -> Parser:
-    """A free text of at most ``max_len`` characters, stripped, without NUL or other control characters.
+    """A free text of at most ``max_len`` characters, stripped.
 
-    ``single_line`` texts (ids, tags, names) refuse line breaks and tabs too.
+    ``single_line`` texts (ids, tags, names, marker labels) refuse NUL, line breaks, tabs and other
+    control characters; free notes keep whatever was typed.
     """
 
     def parse(value: Any) -> str:
         value = str(value).strip()
         if len(value) > max_len:
             raise FieldValueError(f"at most {max_len} characters allowed, got {len(value)}")
-        if has_control(value, allow_breaks=not single_line):
-            what = "line breaks, tabs or control characters" if single_line else "NUL or control characters"
-            raise FieldValueError(f"{what} are not allowed")
+        if single_line and has_control(value):
+            raise FieldValueError("NUL, line breaks, tabs or other control characters are not allowed")
         return value
 
     return parse
@@ -164,6 +164,8 @@ def aware_datetime(value: Any) -> datetime:
             raise FieldValueError(f"{value!r} is not a date and time; write ISO 8601 with offset") from None
     if result.tzinfo is None or result.utcoffset() is None:
         raise FieldValueError("a UTC offset is required (for example 2026-05-01T08:30:00-06:00)")
+    if not DATE_MIN <= result.date() <= DATE_MAX:
+        raise FieldValueError(f"{result.date().isoformat()} is outside the supported dates {DATE_RANGE}")
     return result
 
 

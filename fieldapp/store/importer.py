@@ -16,9 +16,8 @@ unsafe_to_monitor         no        yes/no, true/false, 1/0
 ========================  ========  =====================================================
 
 Limits: one value (quoted or not) may hold at most 131,072 characters (``FIELD_LIMIT``) and a
-header at most 64 columns (``MAX_COLUMNS``); text values refuse NUL and other control characters
-(a tag refuses line breaks and tabs too). A file over a limit is refused with
-one line naming it.
+header at most 64 columns (``MAX_COLUMNS``); a tag refuses NUL, line breaks, tabs and other
+control characters. A file over a limit is refused with one line naming it.
 
 The whole file is checked first; a file with any bad row imports nothing. An import is one
 transaction and one journal entry holding every row (``fieldapp.store.batches``).
@@ -123,7 +122,7 @@ def _canonical_columns(columns: dict[str, list[str]], ids: list[str],
     for texts, limit, required in ((tags, 80, True), (area, 120, False), (equipment, 120, False)):
         if max(map(len, texts)) > limit or (required and min(map(len, texts)) == 0):
             return None
-        if any(t != t.strip() for t in texts) or has_control("".join(texts), allow_breaks=not required):
+        if any(t != t.strip() for t in texts) or (required and has_control("".join(texts))):
             return None
     flag = FLAGS.__getitem__
     return {"id": ids, "tag": tags, "type": types, "service": services, "area": area, "equipment": equipment,
