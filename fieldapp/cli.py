@@ -16,7 +16,15 @@ from datetime import date
 from pathlib import Path
 from typing import Any
 
-from fieldapp.core.fields import FieldProblem, FieldValueError, ValidationError, is_blank, iso_date, number
+from fieldapp.core.fields import (
+    FieldProblem,
+    FieldValueError,
+    ValidationError,
+    has_control,
+    is_blank,
+    iso_date,
+    number,
+)
 
 Handler = Callable[[argparse.Namespace], int]
 COMMANDS: dict[str, Handler] = {}
@@ -32,11 +40,19 @@ def default_db() -> Path:
 
 
 def open_store(args: argparse.Namespace):
-    """The store named by --db (a folder or a non-file there is refused with one line)."""
+    """The store named by --db (a folder or a non-file there is refused with one line).
+
+    Only commands that set ``creates_store`` (init, demo, app, bundle merge) make a new store; the
+    others refuse a --db that does not exist, so a mistyped path never reads as an empty store.
+    """
     from fieldapp.paths import store_file
     from fieldapp.store.base import Store
 
-    return Store(store_file(args.db), actor=args.actor)
+    path = store_file(args.db)
+    if not getattr(args, "creates_store", False) and str(path) != ":memory:" and not path.exists():
+        raise ValidationError([FieldProblem("db", f"{path}: no store there; check --db, or create one with "
+                                            "`plumebook init`")])
+    return Store(path, actor=args.actor)
 
 
 def parse_day(text: str, field: str = "date") -> date:
@@ -134,6 +150,9 @@ def main(argv: Sequence[str] | None = None) -> int:
             return exc.code if isinstance(exc.code, int) else (0 if exc.code is None else 2)
         if args.db is None:
             args.db = default_db()
+        if has_control(args.actor):
+            raise ValidationError([FieldProblem("actor", "NUL, line breaks, tabs or other control characters are "
+                                                "not allowed")])
         return int(args.handler(args) or 0)
     except BrokenPipeError:
         return 0

@@ -272,6 +272,9 @@ CASES: list[tuple[list[str], int, str]] = [
       for v in ("0x0", "1x1", "-800x600", "800x", "huge", "99999x800", "800x600x2", "")],
     (["app", "--screen", "bridge"], 2, "screen"),
     (["app", "--screenshot", F, "--size", "800x600"], 2, "folder"),
+    # --- who is acting ---
+    (["--actor", "a\nb", "sites"], 2, "actor"),
+    (["--actor", "a\x00b", "device"], 2, "actor"),
     # --- demo on a store that holds data ---
     (["demo", "--no-app"], 2, "already holds"),
     # --- non-UTF-8 arguments (surrogate-escaped bytes from a Linux command line) ---
@@ -295,6 +298,11 @@ DB_CASES: list[tuple[str, list[str], int, str]] = [
     ("text.db", ["evidence", "add", "--leak", "x", F + "/good.jpg"], 2, "text.db"),
     ("good.jpg/store.db", ["init"], 2, "good.jpg"),
     ("missing-store.db", ["verify"], 2, "missing-store.db"),
+    *[("missing-store.db", argv, 2, "no store there") for argv in (
+        ["sites"], ["leaks", "--open"], ["surveys"], ["due", "--as-of", "2026-12-01"], ["device"], ["conflicts"],
+        ["history", "x"], ["evidence", "list", "--leak", "x"], ["export", "csv", "--out", F + "/x"],
+        ["bundle", "make", "--out", F + "/b.zip"], ["emissions", "--from", "2026-01-01", "--to", "2026-02-01"],
+        ["import", "components", F + "/badtype.csv", "--site", DEMO_SITE])],
 ]
 
 

@@ -14,12 +14,12 @@ MIN_SIDE, MAX_SIDE = 100, 8192  # screenshot size limits in pixels
 def register(sub: argparse._SubParsersAction) -> None:
     """Add the record commands."""
     p = sub.add_parser("init", help="create an empty store")
-    p.set_defaults(handler=cmd_init)
+    p.set_defaults(handler=cmd_init, creates_store=True)
 
     p = sub.add_parser("demo", help="load the invented demo scenario and write its outputs")
     p.add_argument("--reset", action="store_true", help="delete the store file first")
     p.add_argument("--no-app", action="store_true", help="never open the tablet app")
-    p.set_defaults(handler=cmd_demo)
+    p.set_defaults(handler=cmd_demo, creates_store=True)
 
     p = sub.add_parser("sites", help="list sites")
     p.add_argument("--json", action="store_true")
@@ -189,7 +189,7 @@ def register_app(sub: argparse._SubParsersAction) -> None:
     p.add_argument("--screen", default="start", help="start, site, survey, survey_run, leak, repair, due, export")
     p.add_argument("--screenshot", type=Path, help="render the screen offscreen to this PNG and exit")
     p.add_argument("--size", default="1280x800", help="window size for --screenshot, e.g. 800x1280")
-    p.set_defaults(handler=cmd_app)
+    p.set_defaults(handler=cmd_app, creates_store=True)
 
 
 SCREEN_CHOICES = ("start", "site", "survey", "survey_run", "leak", "repair", "due", "export")

@@ -20,7 +20,7 @@ def register(sub: argparse._SubParsersAction) -> None:
     m.set_defaults(handler=cmd_make)
     g = what.add_parser("merge", help="verify and merge bundle files")
     g.add_argument("files", nargs="+", type=Path)
-    g.set_defaults(handler=cmd_merge)
+    g.set_defaults(handler=cmd_merge, creates_store=True)  # an office may start its store from bundles
     c = sub.add_parser("conflicts", help="concurrent edits resolved by the merge rule")
     c.add_argument("--json", action="store_true")
     c.set_defaults(handler=cmd_conflicts)
