@@ -386,3 +386,46 @@ def test_a_real_command_line_with_bytes_that_are_not_utf8(world, tmp_path):
     err = result.stderr.decode("utf-8", "replace")
     assert result.returncode == 2 and "Traceback" not in err
     assert len(err.splitlines()) == 1 and "UTF-8" in err and "caf\\xe9.csv" in err
+
+
+EXTREMES = [
+    *[["--measured", "1e9", "--unit", u, "--methane-fraction", f] for u in ("kg/h", "lb/h", "t/yr", "scf/h", "m3/h")
+      for f in ("0", "1", "1e-300")],
+    ["--method", "method21", "--ppm", "1000000"], ["--method", "method21", "--ppm", "1e-300"],
+    ["--method", "method21", "--ppm", "0", "--methane-weight-fraction", "0"],
+    ["--method", "method21", "--ppm", "100000", "--pegged-at", "100000"],
+]
+
+
+@pytest.mark.parametrize("extra", EXTREMES, ids=[" ".join(e) for e in EXTREMES])
+def test_estimate_json_at_the_limits_is_strict_json(capsys, extra):
+    """RFC 8259 JSON has no NaN or Infinity: parsing refuses them here (parse_constant)."""
+    import json
+
+    assert main(["estimate", "--type", "valve", "--service", "gas", *extra, "--json"]) == 0
+    out = capsys.readouterr().out
+
+    def refuse(name):
+        raise AssertionError(f"{name} in JSON output")
+
+    assert json.loads(out, parse_constant=refuse)["label"] == "engineering estimate"
+
+
+def test_json_output_refuses_nan_rather_than_printing_it():
+    from fieldapp.cli import emit_json
+
+    with pytest.raises(ValueError):
+        emit_json({"x": float("nan")})
+
+
+def test_date_arithmetic_past_the_calendar_is_one_line(capsys, monkeypatch):
+    """Should a program's span run past year 9999, the OverflowError becomes one line naming the range."""
+    import fieldapp.core.lifecycle as lifecycle
+
+    def overflow(*_a, **_k):
+        raise OverflowError("date value out of range")
+
+    monkeypatch.setattr(lifecycle, "deadlines", overflow)
+    code = main(["rules", "deadlines", "--program", PROGRAM, "--detected", "2999-12-31"])
+    err = capsys.readouterr().err
+    assert code == 2 and len(err.splitlines()) == 1 and "1900-01-01 to 2999-12-31" in err
