@@ -191,14 +191,14 @@ def test_a_store_of_a_newer_schema_is_refused_naming_both_versions(demo_db, tmp_
     conn.execute("UPDATE meta SET value = '99' WHERE key = 'schema_version'")
     conn.commit()
     conn.close()
-    before = snapshot(demo_db)
+    before, raw = snapshot(demo_db), demo_db.read_bytes()
     csv = tmp_path / "c.csv"
     csv.write_text("tag,type,service\nNEW-1,valve,gas\n")
     for argv in (["sites"], ["import", "components", csv, "--site", "Orrel Mesa Pad 2"], ["verify"], ["init"]):
         code, _, err = run(capsys, "--db", demo_db, *argv)
         line = one_line(err)
         assert code == 2 and "schema version 99" in line and f"up to {LATEST}" in line
-    assert snapshot(demo_db) == before
+    assert demo_db.read_bytes() == raw and snapshot(demo_db) == before
     with pytest.raises(SchemaTooNewError):
         Store(demo_db)
 

@@ -200,14 +200,19 @@ class SchemaTooNewError(RuntimeError):
                          "open it with a newer plumebook (nothing was changed)")
 
 
+def refuse_newer(conn: sqlite3.Connection) -> None:
+    """Raise ``SchemaTooNewError`` when the file is at a version above the newest known here."""
+    found = current_version(conn)
+    if found > LATEST:
+        raise SchemaTooNewError(found, LATEST)
+
+
 def migrate(conn: sqlite3.Connection, target: int = LATEST) -> list[int]:
     """Apply every registered migration above the file's version, each in its own transaction.
 
     Refuses (``SchemaTooNewError``) a file whose version is above ``LATEST`` before writing anything.
     """
-    found = current_version(conn)
-    if found > LATEST:
-        raise SchemaTooNewError(found, LATEST)
+    refuse_newer(conn)
     applied = []
     for version, _name, fn in MIGRATIONS:
         if version > target or version <= current_version(conn):
