@@ -18,6 +18,7 @@ from PIL import Image
 
 from fieldapp.core.fields import ValidationError
 from fieldapp.evidence.ingest import add_file, add_marker, add_media, ensure, library, media_for
+from fieldapp.evidence.library import TEMP_MIN_AGE_S
 from fieldapp.evidence.verify import verify
 from fieldapp.store import ops
 from fieldapp.store.base import Store
@@ -194,6 +195,7 @@ def test_killed_ingest_never_leaves_a_row_without_its_file(store, leak, tmp_path
         reopened.close()
     final = Store(path)
     assert final.rows("SELECT COUNT(*) AS n FROM media")[0]["n"] > 0
+    verify(final, now=time.time() + TEMP_MIN_AGE_S + 1)  # an hour on: temp files of the killed adds go
     assert not list(library(final).originals.rglob(".plumebook-tmp-*"))
 
 

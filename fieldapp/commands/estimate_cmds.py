@@ -3,11 +3,16 @@
 from __future__ import annotations
 
 import argparse
+import math
 import sys
 from datetime import UTC, datetime
 
-from fieldapp.cli import emit_json, emit_table, open_store, parse_day
+from fieldapp.cli import emit_json, emit_table, open_store, parse_day, parse_number, required_text
 from fieldapp.core.fields import FieldProblem, ValidationError
+
+MAX_PPM = 1_000_000  # a screening value is a volume fraction in ppmv: 1,000,000 is the whole sample
+MAX_MEASURED = 1e9   # per hour in any of the units; far above any single component leak (common practice, no source)
+PEGGED_LIMITS = (10_000.0, 100_000.0)
 
 
 def register(sub: argparse._SubParsersAction) -> None:
@@ -42,14 +47,7 @@ def register(sub: argparse._SubParsersAction) -> None:
 
 
 def _number(text: str | None, field: str, low: float = 0.0, high: float | None = None) -> float | None:
-    from fieldapp.core.fields import FieldValueError, number
-
-    if text is None:
-        return None
-    try:
-        return number(low, high)(text)
-    except FieldValueError as exc:
-        raise ValidationError([FieldProblem(field, str(exc))]) from None
+    return parse_number(text, field, low, high)
 
 
 def _enum(cls, text: str, field: str):
@@ -69,19 +67,32 @@ def cmd_estimate(args: argparse.Namespace) -> int:
     if args.measured is not None and not args.unit:
         raise ValidationError([FieldProblem("unit", "is required with --measured; allowed: kg/h, lb/h, t/yr, "
                                             "scf/h, m3/h")])
+    pegged = _number(args.pegged_at, "pegged-at")
+    if pegged is not None and pegged not in PEGGED_LIMITS:
+        raise ValidationError([FieldProblem("pegged-at", f"{args.pegged_at!r} is not allowed; allowed: 10000, 100000")])
+    book = catalog.factor_book()
+    known_sets = sorted({*book.leaker_order, *book.sets})
+    if args.factor_set is not None and args.factor_set not in known_sets:
+        raise ValidationError([FieldProblem("factor-set", f"{args.factor_set!r} is not a known factor set; known: "
+                                            f"{', '.join(known_sets)}")])
+    if args.gwp not in book.gwp_sets():
+        raise ValidationError([FieldProblem("gwp", f"{args.gwp!r} is not allowed; allowed: "
+                                            f"{', '.join(book.gwp_sets())}")])
     leak = LeakInput(
         component_type=_enum(ComponentType, args.type, "type"), service=_enum(Service, args.service, "service"),
         methane_mole_fraction=_number(args.methane_fraction, "methane-fraction", 0, 1),
         methane_weight_fraction=_number(args.methane_weight_fraction, "methane-weight-fraction", 0, 1),
-        survey_method=_enum(SurveyMethod, args.method, "method"), screening_ppm=_number(args.ppm, "ppm"),
-        pegged_at=_number(args.pegged_at, "pegged-at"), measured_rate=_number(args.measured, "measured"),
-        measured_unit=args.unit or "")
-    book = catalog.factor_book()
+        survey_method=_enum(SurveyMethod, args.method, "method"),
+        screening_ppm=_number(args.ppm, "ppm", 0, MAX_PPM), pegged_at=pegged,
+        measured_rate=_number(args.measured, "measured", 0, MAX_MEASURED), measured_unit=args.unit or "")
     try:
         result = estimate(leak, book, args.factor_set)
         horizons = co2e(result.methane_kg_per_h, book, args.gwp)
     except EstimateError as exc:
         raise ValidationError([FieldProblem(exc.field, str(exc).split(": ", 1)[1])]) from None
+    if not all(math.isfinite(v) for v in (result.methane_kg_per_h, *horizons.values())):
+        field = "measured" if args.measured is not None else "ppm"
+        raise ValidationError([FieldProblem(field, "gives a rate too large to compute; check the value")])
     out = {"methane_kg_per_h": result.methane_kg_per_h, "co2e_kg_per_h": horizons[100],
            "co2e_20yr_kg_per_h": horizons.get(20), "gwp_set": args.gwp,
            "whole_gas_scf_per_h": result.whole_gas_scf_per_h,
@@ -115,9 +126,10 @@ def cmd_emissions(args: argparse.Namespace) -> int:
     start, end = parse_day(args.start, "from"), parse_day(args.end, "to")
     if end < start:
         raise ValidationError([FieldProblem("to", "must not be before --from")])
-    as_of = parse_day(args.as_of, "as-of") if args.as_of else datetime.now(UTC).date()
+    as_of = parse_day(args.as_of, "as-of") if args.as_of is not None else datetime.now(UTC).date()
+    required_text(args.site, "site")
     store = open_store(args)
-    site_id = resolve_site(store, args.site)["id"] if args.site else None
+    site_id = resolve_site(store, args.site)["id"] if args.site is not None else None
     book = catalog.factor_book()
     try:
         co2e(0, book, args.gwp)

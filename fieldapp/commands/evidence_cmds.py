@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import argparse
 
-from fieldapp.cli import emit_json, emit_table, open_store
+from fieldapp.cli import emit_json, emit_table, open_store, parse_number
 from fieldapp.core.fields import FieldProblem, ValidationError
 
 
@@ -29,24 +29,29 @@ def register(sub: argparse._SubParsersAction) -> None:
 def _markers(texts: list[str], label: str) -> list[tuple[float, float, str]]:
     out = []
     for text in texts:
-        try:
-            x, y = (float(v) for v in text.split(","))
-        except ValueError:
-            raise ValidationError([FieldProblem("marker", f"{text!r}: write X,Y with numbers 0..1")]) from None
+        parts = text.split(",")
+        if len(parts) != 2:
+            raise ValidationError([FieldProblem("marker", f"{text[:40]!r}: write X,Y with numbers 0..1")])
+        x, y = (parse_number(v, "marker", 0, 1) for v in parts)
         out.append((x, y, label))
     return out
 
 
+def _leak(store, leak_id: str) -> dict:
+    rows = store.rows("SELECT l.id, c.tag FROM leaks l JOIN components c ON c.id = l.component_id "
+                      "WHERE l.id = ? AND l.deleted = 0", (leak_id,))
+    if not rows:
+        raise ValidationError([FieldProblem("leak", f"no leak with id {leak_id!r}; `plumebook leaks` lists them")])
+    return rows[0]
+
+
 def cmd_add(args: argparse.Namespace) -> int:
-    from fieldapp.evidence.ingest import add_file
+    from fieldapp.evidence.ingest import add_files
 
     store = open_store(args)
-    leak = store.rows("SELECT c.tag FROM leaks l JOIN components c ON c.id = l.component_id WHERE l.id = ?",
-                      (args.leak,))
-    label = args.label or (leak[0]["tag"] if leak else "")
-    markers = _markers(args.marker, label)
-    for name in args.files:
-        row = add_file(store, args.leak, name, markers, args.actor)
+    leak = _leak(store, args.leak)
+    markers = _markers(args.marker, args.label or leak["tag"])
+    for row in add_files(store, args.leak, args.files, markers, args.actor):
         print(f"added {row['media_kind']} {row['original_name']} sha256 {row['sha256']} as {row['id']}")
     return 0
 
@@ -54,7 +59,9 @@ def cmd_add(args: argparse.Namespace) -> int:
 def cmd_list(args: argparse.Namespace) -> int:
     from fieldapp.evidence.ingest import media_for
 
-    rows = media_for(open_store(args), args.leak)
+    store = open_store(args)
+    _leak(store, args.leak)
+    rows = media_for(store, args.leak)
     if args.json:
         emit_json(rows)
     else:
@@ -66,9 +73,23 @@ def cmd_list(args: argparse.Namespace) -> int:
 
 
 def cmd_verify(args: argparse.Namespace) -> int:
-    from fieldapp.evidence.verify import verify
+    import sqlite3
 
-    report = verify(open_store(args))
+    from fieldapp.evidence.verify import verify
+    from fieldapp.paths import store_file
+    from fieldapp.store.schema import SchemaTooNewError
+
+    if not store_file(args.db).is_file():
+        raise ValidationError([FieldProblem("db", f"{args.db}: no store there; name an existing store file")])
+    try:
+        store = open_store(args)
+    except SchemaTooNewError:
+        raise
+    except sqlite3.DatabaseError as exc:
+        print(f"PROBLEM: database: {args.db}: cannot be opened ({exc}); restore it from a backup or a bundle")
+        print("checked 0 media records: 1 problem(s)")
+        return 1
+    report = verify(store)
     for note in report.notes:
         print(f"note: {note}")
     for problem in report.problems:

@@ -6,18 +6,20 @@ import argparse
 import os
 from pathlib import Path
 
-from fieldapp.cli import emit_json, emit_table, open_store
+from fieldapp.cli import emit_json, emit_table, open_store, required_text
+
+MIN_SIDE, MAX_SIDE = 100, 8192  # screenshot size limits in pixels
 
 
 def register(sub: argparse._SubParsersAction) -> None:
     """Add the record commands."""
     p = sub.add_parser("init", help="create an empty store")
-    p.set_defaults(handler=cmd_init)
+    p.set_defaults(handler=cmd_init, creates_store=True)
 
     p = sub.add_parser("demo", help="load the invented demo scenario and write its outputs")
     p.add_argument("--reset", action="store_true", help="delete the store file first")
     p.add_argument("--no-app", action="store_true", help="never open the tablet app")
-    p.set_defaults(handler=cmd_demo)
+    p.set_defaults(handler=cmd_demo, creates_store=True)
 
     p = sub.add_parser("sites", help="list sites")
     p.add_argument("--json", action="store_true")
@@ -71,7 +73,9 @@ def cmd_demo(args: argparse.Namespace) -> int:
     from fieldapp import demo
 
     if args.reset:
-        _remove_store(args.db)
+        from fieldapp.paths import store_file
+
+        _remove_store(store_file(args.db))
     store = open_store(args)
     counts = demo.load(store)
     print(f"demo loaded into {store.path}: " + ", ".join(f"{v} {k}" for k, v in counts.items()))
@@ -113,12 +117,13 @@ def cmd_sites(args: argparse.Namespace) -> int:
 def _site_id(store, key: str | None) -> str | None:
     from fieldapp.store.reads import resolve_site
 
-    return resolve_site(store, key)["id"] if key else None
+    return resolve_site(store, key)["id"] if required_text(key, "site") is not None else None
 
 
 def cmd_surveys(args: argparse.Namespace) -> int:
     from fieldapp.store.reads import list_surveys
 
+    required_text(args.site, "site")
     store = open_store(args)
     rows = list_surveys(store, _site_id(store, args.site))
     if args.json:
@@ -131,6 +136,7 @@ def cmd_surveys(args: argparse.Namespace) -> int:
 def cmd_leaks(args: argparse.Namespace) -> int:
     from fieldapp.store.reads import list_leaks
 
+    required_text(args.site, "site")
     store = open_store(args)
     rows = list_leaks(store, _site_id(store, args.site), open_only=args.open)
     if args.json:
@@ -164,9 +170,12 @@ def cmd_history(args: argparse.Namespace) -> int:
 
 
 def cmd_import_components(args: argparse.Namespace) -> int:
+    from fieldapp.paths import input_file
     from fieldapp.store.importer import import_components
     from fieldapp.store.reads import resolve_site
 
+    required_text(args.site, "site")
+    input_file(args.file, "file")
     store = open_store(args)
     site = resolve_site(store, args.site)
     count = import_components(store, args.file, site["id"], args.actor)
@@ -180,7 +189,7 @@ def register_app(sub: argparse._SubParsersAction) -> None:
     p.add_argument("--screen", default="start", help="start, site, survey, survey_run, leak, repair, due, export")
     p.add_argument("--screenshot", type=Path, help="render the screen offscreen to this PNG and exit")
     p.add_argument("--size", default="1280x800", help="window size for --screenshot, e.g. 800x1280")
-    p.set_defaults(handler=cmd_app)
+    p.set_defaults(handler=cmd_app, creates_store=True)
 
 
 SCREEN_CHOICES = ("start", "site", "survey", "survey_run", "leak", "repair", "due", "export")
@@ -193,10 +202,16 @@ def cmd_app(args: argparse.Namespace) -> int:
         raise ValidationError([FieldProblem("screen", f"{args.screen!r} is not allowed; allowed: "
                                             f"{', '.join(SCREEN_CHOICES)}")])
     if args.screenshot:
+        from fieldapp.paths import output_file
+
         try:
             width, height = (int(v) for v in args.size.lower().split("x"))
         except ValueError:
-            raise ValidationError([FieldProblem("size", "write WIDTHxHEIGHT, e.g. 1280x800")]) from None
+            width = height = -1
+        if not (MIN_SIDE <= width <= MAX_SIDE and MIN_SIDE <= height <= MAX_SIDE):
+            raise ValidationError([FieldProblem("size", f"{args.size[:40]!r}: write WIDTHxHEIGHT with each side "
+                                                f"{MIN_SIDE} to {MAX_SIDE} pixels, e.g. 1280x800")])
+        output_file(args.screenshot, "screenshot")
         os.environ.setdefault("SDL_VIDEODRIVER", "offscreen" if not has_display() else "")
         os.environ.update(KCFG_GRAPHICS_WIDTH=str(width), KCFG_GRAPHICS_HEIGHT=str(height), KIVY_NO_ARGS="1",
                           KIVY_NO_CONFIG="1", KIVY_NO_FILELOG="1")

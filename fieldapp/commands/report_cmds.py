@@ -5,7 +5,9 @@ from __future__ import annotations
 import argparse
 from pathlib import Path
 
-from fieldapp.cli import open_store, parse_day
+from fieldapp.cli import open_store, parse_day, required_text
+from fieldapp.core.fields import FieldProblem, ValidationError
+from fieldapp.paths import output_file, output_folder
 
 
 def register(sub: argparse._SubParsersAction) -> None:
@@ -35,15 +37,25 @@ def register(sub: argparse._SubParsersAction) -> None:
 def _site(store, key):
     from fieldapp.store.reads import resolve_site
 
-    return resolve_site(store, key)["id"] if key else None
+    return resolve_site(store, key)["id"] if key is not None else None
+
+
+def _period(args: argparse.Namespace):
+    """--from and --to as dates (each optional unless the parser requires it); --to must not be before --from."""
+    start = parse_day(args.start, "from") if args.start is not None else None
+    end = parse_day(args.end, "to") if args.end is not None else None
+    if start and end and end < start:
+        raise ValidationError([FieldProblem("to", f"must not be before --from ({start}); got {end}")])
+    return start, end
 
 
 def cmd_csv(args: argparse.Namespace) -> int:
     from sync.export import export_csv
 
+    start, end = _period(args)
+    required_text(args.site, "site")
+    output_folder(args.out, "out")
     store = open_store(args)
-    start = parse_day(args.start, "from") if args.start else None
-    end = parse_day(args.end, "to") if args.end else None
     for path in export_csv(store, args.out, start, end, _site(store, args.site)):
         print(path)
     return 0
@@ -52,17 +64,17 @@ def cmd_csv(args: argparse.Namespace) -> int:
 def cmd_survey(args: argparse.Namespace) -> int:
     from sync.pdf_survey import write_survey_pdf
 
+    output_file(args.out, "out")
     print(write_survey_pdf(open_store(args), args.survey_id, args.out))
     return 0
 
 
 def cmd_period(args: argparse.Namespace) -> int:
-    from fieldapp.core.fields import FieldProblem, ValidationError
     from sync.pdf_period import write_period_pdf
 
+    start, end = _period(args)
+    required_text(args.site, "site")
+    output_file(args.out, "out")
     store = open_store(args)
-    start, end = parse_day(args.start, "from"), parse_day(args.end, "to")
-    if end < start:
-        raise ValidationError([FieldProblem("to", "must not be before --from")])
     print(write_period_pdf(store, start, end, args.out, _site(store, args.site)))
     return 0

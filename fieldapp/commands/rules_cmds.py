@@ -7,7 +7,10 @@ import dataclasses
 import uuid
 from datetime import UTC, datetime
 
-from fieldapp.cli import emit_json, emit_table, open_store, parse_day
+from fieldapp.cli import emit_json, emit_table, open_store, parse_day, parse_number, parse_whole, required_text
+
+MAX_PPM = 1_000_000  # ppmv: the whole sample
+MAX_WITHIN_DAYS = 36_500
 
 
 def register(sub: argparse._SubParsersAction) -> None:
@@ -32,7 +35,7 @@ def register(sub: argparse._SubParsersAction) -> None:
     d.add_argument("--parts-received", help="date the replacement part was received (parts route)")
     d.add_argument("--method", choices=["ogi", "method21", "avo"],
                    help="how the leak was found (default: the program's primary method)")
-    d.add_argument("--ppm", type=float)
+    d.add_argument("--ppm", help="Method 21 screening value, ppmv (0 to 1,000,000)")
     d.add_argument("--json", action="store_true")
     d.set_defaults(handler=cmd_deadlines)
     w = what.add_parser("window", help="next survey window of a site")
@@ -48,7 +51,7 @@ def register(sub: argparse._SubParsersAction) -> None:
     p = sub.add_parser("due", help="what is due across sites, overdue first")
     p.add_argument("--as-of", help="date YYYY-MM-DD (default: today, UTC)")
     p.add_argument("--site", help="site id or name")
-    p.add_argument("--within", type=int, help="only items overdue or due within DAYS")
+    p.add_argument("--within", help="only items overdue or due within DAYS (0 to 36500)")
     fmt = p.add_mutually_exclusive_group()
     fmt.add_argument("--json", action="store_true")
     fmt.add_argument("--csv", action="store_true")
@@ -119,15 +122,19 @@ def cmd_deadlines(args: argparse.Namespace) -> int:
 
     program = catalog.program(args.program)
     detected = parse_day(args.detected, "detected")
+    ppm = parse_number(args.ppm, "ppm", 0, MAX_PPM)
+    if args.shutdown is not None and args.delayed is None:
+        raise ValidationError([catalog.FieldProblem("shutdown", "needs --delayed (the shutdown date belongs to a "
+                                                    "delay of repair)")])
     actions = []
-    if args.first_attempt:
+    if args.first_attempt is not None:
         actions.append(_action("first_attempt", parse_day(args.first_attempt, "first-attempt"), seq=0))
-    if (args.shutdown or args.parts_ordered or args.parts_received) and not args.delayed:
-        raise ValidationError([FieldProblem("delayed", "is required with --shutdown, --parts-ordered or "
+    if (args.parts_ordered or args.parts_received) and args.delayed is None:
+        raise ValidationError([FieldProblem("delayed", "is required with --parts-ordered or "
                                             "--parts-received (the date the delay of repair began)")])
     if args.parts_received and not args.parts_ordered:
         raise ValidationError([FieldProblem("parts-ordered", "is required with --parts-received")])
-    if args.delayed:
+    if args.delayed is not None:
         shutdown = parse_day(args.shutdown, "shutdown") if args.shutdown else None
         delayed = parse_day(args.delayed, "delayed")
         parts = {"delay_kind": DelayKind.PARTS} if args.parts_ordered else {}
@@ -139,12 +146,12 @@ def cmd_deadlines(args: argparse.Namespace) -> int:
                 on = parse_day(flag, name.replace("_on", "").replace("_", "-"))
                 actions.append(_action("delay_of_repair", max(on, delayed), seq=seq, reason="calculator",
                                        delay_kind=DelayKind.PARTS, **{name: on}))
-    if args.repaired:
+    if args.repaired is not None:
         actions.append(_action("repaired", parse_day(args.repaired, "repaired"), seq=4))
-    if args.resurvey_failed:
+    if args.resurvey_failed is not None:
         actions.append(_action("resurvey_failed", parse_day(args.resurvey_failed, "resurvey-failed"), seq=5))
     method = SurveyMethod(args.method) if args.method else program.primary_method
-    facts, problems = summarize(detected, actions, args.ppm, method)
+    facts, problems = summarize(detected, actions, ppm, method)
     if problems:
         raise ValidationError(problems)
     items = [{"kind": d.kind, "due": d.due.isoformat() if d.due else None, "rule": d.rule,
@@ -152,7 +159,7 @@ def cmd_deadlines(args: argparse.Namespace) -> int:
               "done_on": d.done_on.isoformat() if d.done_on else None}
              for d in deadlines(program, facts, catalog.holidays_for(program))]
     if args.json:
-        emit_json({"program": program.id, "tier": program.tier_for(args.ppm, method).label,
+        emit_json({"program": program.id, "tier": program.tier_for(ppm, method).label,
                    "method": method.value, "items": items})
     else:
         emit_table(items, ("kind", "due", "done_on", "rule", "citation", "status"))
@@ -171,8 +178,8 @@ def cmd_window(args: argparse.Namespace) -> int:
     except FieldValueError as exc:
         raise ValidationError([FieldProblem("site-kind", str(exc))]) from None
     method = SurveyMethod(args.inspection) if args.inspection else None
-    past = [PastSurvey(parse_day(args.last, "last"))] if args.last else []
-    startup = parse_day(args.startup, "startup") if args.startup else None
+    past = [PastSurvey(parse_day(args.last, "last"))] if args.last is not None else []
+    startup = parse_day(args.startup, "startup") if args.startup is not None else None
     try:
         window = next_window(program, kind, method, past, startup)
     except WindowError as exc:
@@ -194,10 +201,12 @@ def cmd_due(args: argparse.Namespace) -> int:
     from fieldapp.store.reads import resolve_site
     from sync.tables import DUE_COLUMNS, due_rows, to_csv
 
+    as_of = parse_day(args.as_of, "as-of") if args.as_of is not None else datetime.now(UTC).date()
+    within = parse_whole(args.within, "within", 0, MAX_WITHIN_DAYS)
+    required_text(args.site, "site")
     store = open_store(args)
-    as_of = parse_day(args.as_of, "as-of") if args.as_of else datetime.now(UTC).date()
-    site_id = resolve_site(store, args.site)["id"] if args.site else None
-    items, problems = due_list(store, as_of, site_id, args.within)
+    site_id = resolve_site(store, args.site)["id"] if args.site is not None else None
+    items, problems = due_list(store, as_of, site_id, within)
     rows = due_rows(items, as_of)
     for problem in problems:
         print(f"plumebook: warning: {problem}", file=sys.stderr)

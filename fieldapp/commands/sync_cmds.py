@@ -5,8 +5,8 @@ from __future__ import annotations
 import argparse
 from pathlib import Path
 
-from fieldapp.cli import emit_json, emit_table, open_store
-from fieldapp.core.fields import FieldProblem, ValidationError
+from fieldapp.cli import emit_json, emit_table, open_store, parse_whole, required_text
+from fieldapp.paths import input_file, output_file
 
 
 def register(sub: argparse._SubParsersAction) -> None:
@@ -20,7 +20,7 @@ def register(sub: argparse._SubParsersAction) -> None:
     m.set_defaults(handler=cmd_make)
     g = what.add_parser("merge", help="verify and merge bundle files")
     g.add_argument("files", nargs="+", type=Path)
-    g.set_defaults(handler=cmd_merge)
+    g.set_defaults(handler=cmd_merge, creates_store=True)  # an office may start its store from bundles
     c = sub.add_parser("conflicts", help="concurrent edits resolved by the merge rule")
     c.add_argument("--json", action="store_true")
     c.set_defaults(handler=cmd_conflicts)
@@ -31,18 +31,14 @@ def register(sub: argparse._SubParsersAction) -> None:
 def cmd_make(args: argparse.Namespace) -> int:
     from sync.bundle import make_device_bundle, make_office_bundle
 
+    output_file(args.out, "out")
+    required_text(args.for_device, "for-device")
+    since = None if args.since == "auto" else parse_whole(args.since, "since", 0)
     store = open_store(args)
     if args.for_device:
         s = make_office_bundle(store, args.out, args.for_device)
         print(f"office bundle for device {args.for_device}: {s.entries} entries -> {s.path}")
         return 0
-    if args.since == "auto":
-        since = None
-    else:
-        try:
-            since = int(args.since)
-        except ValueError:
-            raise ValidationError([FieldProblem("since", "allowed: auto or a whole number")]) from None
     s = make_device_bundle(store, args.out, since)
     print(f"bundle of device {s.device_id}: entries {s.seq_from}..{s.seq_to} ({s.entries}), {s.media} media "
           f"-> {s.path}")
@@ -52,6 +48,8 @@ def cmd_make(args: argparse.Namespace) -> int:
 def cmd_merge(args: argparse.Namespace) -> int:
     from sync.merge import merge_many
 
+    for path in args.files:
+        input_file(path, "files")
     store = open_store(args)
     for path, r in zip(args.files, merge_many(store, args.files), strict=True):
         print(f"{path.name}: {r.kind} bundle from {r.device_id[:8]}: {r.new_entries} new entries, {r.rows} records "

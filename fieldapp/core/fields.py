@@ -45,19 +45,39 @@ class ValidationError(ValueError):
 
 Parser = Callable[[Any], Any]
 
+DATE_MIN = date(1900, 1, 1)
+DATE_MAX = date(2999, 12, 31)
+"""Supported dates: 1900-01-01 to 2999-12-31, so every deadline and window computed from one (years
+added) stays inside what Python's calendar holds (year 9999)."""
+DATE_RANGE = f"{DATE_MIN.isoformat()} to {DATE_MAX.isoformat()}"
+CONTROL_CHARACTERS = frozenset(chr(c) for c in range(32)) | {"\x85", "\u2028", "\u2029"}  # C0 and line breaks
+
 
 def is_blank(value: Any) -> bool:
     """True for None and for strings that are empty after stripping."""
     return value is None or (isinstance(value, str) and value.strip() == "")
 
 
-def text(max_len: int = 500) -> Parser:
-    """A free text of at most ``max_len`` characters, stripped."""
+def has_control(value: str, allow_breaks: bool = False) -> bool:
+    """True when a text holds a control character (NUL, tab, line breaks...); ``allow_breaks`` lets CR/LF/tab pass."""
+    if allow_breaks:
+        value = value.replace("\n", "").replace("\r", "").replace("\t", "")
+    return not CONTROL_CHARACTERS.isdisjoint(value)
+
+
+def text(max_len: int = 500, single_line: bool = False) -> Parser:
+    """A free text of at most ``max_len`` characters, stripped.
+
+    ``single_line`` texts (ids, tags, names, marker labels) refuse NUL, line breaks, tabs and other
+    control characters; free notes keep whatever was typed.
+    """
 
     def parse(value: Any) -> str:
         value = str(value).strip()
         if len(value) > max_len:
             raise FieldValueError(f"at most {max_len} characters allowed, got {len(value)}")
+        if single_line and has_control(value):
+            raise FieldValueError("NUL, line breaks, tabs or other control characters are not allowed")
         return value
 
     return parse
@@ -92,9 +112,9 @@ def number(minimum: float | None = None, maximum: float | None = None, unit: str
             raise FieldValueError("a finite number is required")
         suffix = f" {unit}" if unit else ""
         if minimum is not None and result < minimum:
-            raise FieldValueError(f"must be at least {minimum:g}{suffix}, got {result:g}")
+            raise FieldValueError(f"must be at least {minimum:.15g}{suffix}, got {result:.15g}")
         if maximum is not None and result > maximum:
-            raise FieldValueError(f"must be at most {maximum:g}{suffix}, got {result:g}")
+            raise FieldValueError(f"must be at most {maximum:.15g}{suffix}, got {result:.15g}")
         return result
 
     return parse
@@ -117,11 +137,20 @@ def iso_date(value: Any) -> date:
     if isinstance(value, datetime):
         raise FieldValueError("a date without a time is required (YYYY-MM-DD)")
     if isinstance(value, date):
-        return value
-    try:
-        return date.fromisoformat(str(value).strip())
-    except ValueError:
-        raise FieldValueError(f"{value!r} is not a date; write YYYY-MM-DD") from None
+        result = value
+    else:
+        raw = str(value).strip()
+        if not raw:
+            raise FieldValueError("is empty; write a date YYYY-MM-DD")
+        try:
+            result = date.fromisoformat(raw) if len(raw) == 10 and raw[4] + raw[7] == "--" else None
+        except ValueError:
+            result = None
+        if result is None:
+            raise FieldValueError(f"{value!r} is not a date; write YYYY-MM-DD")
+    if not DATE_MIN <= result <= DATE_MAX:
+        raise FieldValueError(f"{result.isoformat()} is outside the supported dates {DATE_RANGE}")
+    return result
 
 
 def aware_datetime(value: Any) -> datetime:
@@ -135,6 +164,8 @@ def aware_datetime(value: Any) -> datetime:
             raise FieldValueError(f"{value!r} is not a date and time; write ISO 8601 with offset") from None
     if result.tzinfo is None or result.utcoffset() is None:
         raise FieldValueError("a UTC offset is required (for example 2026-05-01T08:30:00-06:00)")
+    if not DATE_MIN <= result.date() <= DATE_MAX:
+        raise FieldValueError(f"{result.date().isoformat()} is outside the supported dates {DATE_RANGE}")
     return result
 
 

@@ -35,8 +35,8 @@ def _spec(parse: f.Parser, required: bool = False, default: Any = None, doc: str
     return field(default=default, metadata={"parse": parse, "required": required, "doc": doc})
 
 
-ID = f.text(64)
-TAG = f.text(80)
+ID = f.text(64, single_line=True)
+TAG = f.text(80, single_line=True)
 
 
 @dataclass(frozen=True, slots=True)
@@ -44,7 +44,7 @@ class Site:
     """A facility surveyed under one program."""
 
     id: str = _spec(ID, True)
-    name: str = _spec(f.text(120), True, doc="display name")
+    name: str = _spec(f.text(120, single_line=True), True, doc="display name")
     kind: SiteKind = _spec(f.enum_of(SiteKind), True)
     program_id: str = _spec(f.text(80), True, doc="id of the program file that sets its rules")
     timezone: str = _spec(f.time_zone, True, doc="IANA zone; deadlines count local calendar days")
@@ -168,7 +168,7 @@ class Marker:
     media_id: str = _spec(ID, True)
     x: float = _spec(f.number(0, 1), True)
     y: float = _spec(f.number(0, 1), True)
-    label: str = _spec(f.text(80), False, "", doc="usually the component tag")
+    label: str = _spec(f.text(80, single_line=True), False, "", doc="usually the component tag")
 
 
 R = TypeVar("R")

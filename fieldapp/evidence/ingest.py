@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import hashlib
 from collections.abc import Sequence
+from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
@@ -34,17 +35,30 @@ def _parse(cls: type, values: dict[str, Any]) -> Any:
     return record
 
 
-def add_media(store: Store, leak_id: str, data: bytes, name: str = "",
-              markers: Sequence[tuple[float, float, str]] = (), actor: str = "") -> dict[str, Any]:
-    """Store one photo or clip of a leak with its markers; returns the media row."""
+@dataclass
+class Prepared:
+    """One checked file, decoded and ready to store: nothing of it is on disk yet."""
+
+    media: PhotoRef
+    points: list[Marker]
+    data: bytes
+    copies: dict[str, bytes] = field(default_factory=dict)
+
+
+def _marked_key(markers: Sequence[Any]) -> str:
+    return hashlib.sha256(repr([(m["x"], m["y"], m["label"]) for m in markers]).encode()).hexdigest()[:12]
+
+
+def prepare_media(store: Store, leak_id: str, data: bytes, name: str = "",
+                  markers: Sequence[tuple[float, float, str]] = (), actor: str = "") -> Prepared:
+    """Check one photo or clip and make every copy in memory (the marked-up one too); writes nothing."""
     try:
         store.get("leaks", leak_id)
     except NotFoundError:
-        raise ValidationError([FieldProblem("leak_id", f"no leak with id {leak_id!r}")]) from None
+        raise ValidationError([FieldProblem("leak", f"no leak with id {leak_id!r}")]) from None
     found = probe(data, name)
     if found.media_kind != "photo" and markers:
-        raise ValidationError([FieldProblem("marker", "markers go on photos, not on clips")])
-    copies = derivatives.make(data, name) if found.media_kind == "photo" else {}
+        raise ValidationError([FieldProblem("marker", f"{Path(name).name}: markers go on photos, not on clips")])
     sha = hashlib.sha256(data).hexdigest()
     media = _parse(PhotoRef, {
         "id": new_id(), "leak_id": leak_id, "sha256": sha, "media_kind": found.media_kind,
@@ -55,29 +69,73 @@ def add_media(store: Store, leak_id: str, data: bytes, name: str = "",
     })
     points = [_parse(Marker, {"id": new_id(), "media_id": media.id, "x": x, "y": y, "label": label})
               for x, y, label in markers]
+    copies = derivatives.make(data, name) if found.media_kind == "photo" else {}
+    if points:  # drawn now, before anything is stored, so a failure leaves nothing behind
+        plain = [as_plain(p) for p in points]
+        copies[f"marked-{_marked_key(plain)}"] = derivatives.marked(
+            copies["report"], [derivatives.Point(m["x"], m["y"], m["label"]) for m in plain])
+    return Prepared(media, points, data, copies)
+
+
+def store_prepared(store: Store, items: Sequence[Prepared], actor: str = "") -> list[dict[str, Any]]:
+    """Write the originals and copies of checked files, then their rows in one transaction; all or nothing.
+
+    If anything fails, the files this call created are removed again and no row is written.
+    """
     lib = library(store)
-    lib.put(data, sha)
-    for kind, blob in copies.items():
-        write_bytes(lib.derivative(sha, kind), blob)
-    with store.transaction():
-        store.insert("media", as_plain(media), actor)
-        for point in points:
-            store.insert("markers", as_plain(point), actor)
-    row = store.get("media", media.id)
-    if points:  # drawn now, while the photo is fresh, so reports only place it
-        ensure(store, row, "marked")
-    return row
+    created: list[Path] = []
+    try:
+        for item in items:
+            sha = item.media.sha256
+            target = lib.original(sha)
+            if not target.exists():
+                created.append(target)
+            lib.put(item.data, sha)
+            for kind, blob in item.copies.items():
+                path = lib.derivative(sha, kind)
+                if not path.exists():
+                    created.append(path)
+                write_bytes(path, blob)
+        with store.transaction():
+            for item in items:
+                store.insert("media", as_plain(item.media), actor)
+                for point in item.points:
+                    store.insert("markers", as_plain(point), actor)
+    except BaseException:
+        for path in created:
+            path.unlink(missing_ok=True)
+        raise
+    return [store.get("media", item.media.id) for item in items]
+
+
+def add_media(store: Store, leak_id: str, data: bytes, name: str = "",
+              markers: Sequence[tuple[float, float, str]] = (), actor: str = "") -> dict[str, Any]:
+    """Store one photo or clip of a leak with its markers; returns the media row."""
+    return store_prepared(store, [prepare_media(store, leak_id, data, name, markers, actor)], actor)[0]
+
+
+def read_evidence_file(path: Path | str) -> bytes:
+    """The bytes of an evidence file; ValidationError naming the path if it cannot be read."""
+    from fieldapp.paths import input_file
+
+    path = input_file(path, "file")
+    try:
+        return path.read_bytes()
+    except OSError as exc:
+        raise ValidationError([FieldProblem("file", f"{path}: cannot be read ({exc.strerror})")]) from None
 
 
 def add_file(store: Store, leak_id: str, path: Path | str, markers: Sequence[tuple[float, float, str]] = (),
              actor: str = "") -> dict[str, Any]:
     """Read a file and add it as evidence of a leak."""
-    path = Path(path)
-    try:
-        data = path.read_bytes()
-    except OSError as exc:
-        raise ValidationError([FieldProblem("file", f"{path}: cannot be read ({exc.strerror})")]) from None
-    return add_media(store, leak_id, data, path.name, markers, actor)
+    return add_media(store, leak_id, read_evidence_file(path), Path(path).name, markers, actor)
+
+
+def add_files(store: Store, leak_id: str, paths: Sequence[Path | str],
+              markers: Sequence[tuple[float, float, str]] = (), actor: str = "") -> list[dict[str, Any]]:
+    """Add several files to a leak, all or nothing: every file is read and checked before any is stored."""
+    items = [prepare_media(store, leak_id, read_evidence_file(p), Path(p).name, markers, actor) for p in paths]
+    return store_prepared(store, items, actor)
 
 
 def add_marker(store: Store, media_id: str, x: float, y: float, label: str = "", actor: str = "") -> dict:
@@ -110,7 +168,7 @@ def ensure(store: Store, media: dict[str, Any], kind: str) -> Path:
         if markers is None:
             markers = store.rows("SELECT x, y, label FROM markers WHERE media_id = ? AND deleted = 0 ORDER BY rowid",
                                  (media["id"],))
-        key = hashlib.sha256(repr([(m["x"], m["y"], m["label"]) for m in markers]).encode()).hexdigest()[:12]
+        key = _marked_key(markers)
         path = lib.derivative(sha, f"marked-{key}")
         if not path.exists():
             report = ensure(store, media, "report").read_bytes()

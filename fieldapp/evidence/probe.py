@@ -104,7 +104,11 @@ def _gps(exif: Image.Exif) -> tuple[float | None, float | None]:
 def _video(data: bytes, name: str) -> Probe:
     brand = data[8:12]
     content_type = VIDEO_BRANDS.get(brand, "video/mp4")
-    duration = _mp4_duration(data)
+    try:
+        duration = _mp4_duration(data)
+    except struct.error:
+        raise refuse(f"{name}: an MP4/MOV clip whose box headers are cut short (movie header too short): "
+                     "truncated or damaged") from None
     if duration is None and b"moov" not in data:
         raise refuse(f"{name}: an MP4/MOV clip without its index (moov box): truncated or damaged")
     return Probe("video", content_type, duration_s=duration)

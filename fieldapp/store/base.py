@@ -38,7 +38,7 @@ except ImportError:  # pragma: no cover - orjson is a declared dependency
 
 from fieldapp.store.batches import BATCH_OP, BATCH_TABLES, batch_value, ids_problem
 from fieldapp.store.clock import HybridClock, Stamp
-from fieldapp.store.schema import migrate
+from fieldapp.store.schema import migrate, refuse_newer
 
 LIST_COLUMNS = frozenset({"areas", "areas_done"})
 RECORD_TABLES = ("sites", "components", "surveys", "leaks", "actions", "media", "markers")
@@ -104,6 +104,11 @@ class Store:
         if str(path) != ":memory:":
             self.path.parent.mkdir(parents=True, exist_ok=True)
         self.conn = sqlite3.connect(str(path), isolation_level=None, timeout=15)
+        try:
+            refuse_newer(self.conn)  # before any pragma that could change the file
+        except BaseException:
+            self.conn.close()
+            raise
         self.conn.execute("PRAGMA foreign_keys = ON")
         if str(path) != ":memory:":
             self.conn.execute("PRAGMA journal_mode = WAL")

@@ -15,6 +15,10 @@ difficult_to_monitor      no        yes/no, true/false, 1/0
 unsafe_to_monitor         no        yes/no, true/false, 1/0
 ========================  ========  =====================================================
 
+Limits: one value (quoted or not) may hold at most 131,072 characters (``FIELD_LIMIT``) and a
+header at most 64 columns (``MAX_COLUMNS``); a tag refuses NUL, line breaks, tabs and other
+control characters. A file over a limit is refused with one line naming it.
+
 The whole file is checked first; a file with any bad row imports nothing. An import is one
 transaction and one journal entry holding every row (``fieldapp.store.batches``).
 """
@@ -23,15 +27,18 @@ from __future__ import annotations
 
 import csv
 import io
+from collections import Counter
 from itertools import repeat
 from pathlib import Path
 
 from fieldapp.core.enums import ComponentType, Service
-from fieldapp.core.fields import FieldProblem, ValidationError
+from fieldapp.core.fields import FieldProblem, ValidationError, has_control
 from fieldapp.core.records import Component, as_plain, parse_record
 from fieldapp.store.base import Store, new_ids
 from fieldapp.store.bulk import gc_paused
 
+FIELD_LIMIT = 131_072
+MAX_COLUMNS = 64
 COLUMNS = ("tag", "type", "service", "area", "equipment", "difficult_to_monitor", "unsafe_to_monitor")
 REQUIRED = ("tag", "type", "service")
 
@@ -62,11 +69,23 @@ def split_csv(text: str) -> list[tuple[int, list[str]]]:
     if _plain_text(text):
         return [(n, line.split(",")) for n, line in enumerate(text.splitlines(), start=1) if line]
     reader = csv.reader(io.StringIO(text, newline=""))
-    return [(reader.line_num, row) for row in reader if row]
+    rows: list[tuple[int, list[str]]] = []
+    try:
+        for row in reader:
+            if row:
+                rows.append((reader.line_num, row))
+    except csv.Error as exc:
+        if "field limit" in str(exc):
+            message = f"a value is longer than {FIELD_LIMIT:,} characters (the limit of one value)"
+        else:
+            message = f"not readable as CSV ({exc})"
+        raise ValidationError([FieldProblem("file", message, reader.line_num)]) from None
+    return rows
 
 
 def _plain_columns(text: str) -> tuple[list[str], dict[str, list[str]]] | None:
-    """Header and columns of a plain text (see ``_plain_text``) with no blank line and one width; else None."""
+    """Header and columns of a plain text (see ``_plain_text``) with no blank line, one width and no
+    repeated column name; else None."""
     if not _plain_text(text):
         return None
     lines = text.splitlines()
@@ -74,6 +93,8 @@ def _plain_columns(text: str) -> tuple[list[str], dict[str, list[str]]] | None:
         return None
     header, body = lines[0].split(","), lines[1:]
     width = len(header)
+    if len(set(header)) != width:  # a repeated name would collapse two columns into one
+        return None
     if body and set(map(str.count, body, repeat(","))) != {width - 1}:
         return None
     cells = ",".join(body).split(",") if body else []
@@ -101,7 +122,7 @@ def _canonical_columns(columns: dict[str, list[str]], ids: list[str],
     for texts, limit, required in ((tags, 80, True), (area, 120, False), (equipment, 120, False)):
         if max(map(len, texts)) > limit or (required and min(map(len, texts)) == 0):
             return None
-        if any(t != t.strip() for t in texts):
+        if any(t != t.strip() for t in texts) or (required and has_control("".join(texts))):
             return None
     flag = FLAGS.__getitem__
     return {"id": ids, "tag": tags, "type": types, "service": services, "area": area, "equipment": equipment,
@@ -143,12 +164,21 @@ def _row_by_row(header: list[str], body: list[tuple[int, list[str]]], ids: list[
     return {name: list(values) for name, values in zip(OUT_COLUMNS, zip(*out, strict=True), strict=True)}
 
 
+def _short(name: str) -> str:
+    return name if len(name) <= 40 else f"{name[:37]}..."
+
+
 def _header_problems(header: list[str]) -> list[FieldProblem]:
-    problems = [FieldProblem(name, "column is required", 1) for name in REQUIRED if name not in header]
-    problems += [FieldProblem(name, f"unknown column; allowed: {', '.join(COLUMNS)}", 1)
+    """Problems of a header row in one pass (linear in its length); long names are shortened."""
+    if len(header) > MAX_COLUMNS:
+        return [FieldProblem("header", f"has {len(header):,} columns; at most {MAX_COLUMNS} allowed "
+                             f"({', '.join(COLUMNS)})", 1)]
+    counts = Counter(header)
+    problems = [FieldProblem(name, "column is required", 1) for name in REQUIRED if name not in counts]
+    problems += [FieldProblem(_short(name), f"unknown column; allowed: {', '.join(COLUMNS)}", 1)
                  for name in header if name not in COLUMNS]
-    return problems + [FieldProblem(name, "column appears twice", 1) for name in sorted(set(header))
-                       if header.count(name) > 1]
+    return problems + [FieldProblem(_short(name), "column appears twice", 1) for name in sorted(counts)
+                       if counts[name] > 1]
 
 
 def parse_components(text: str, site_id: str, existing_tags: set[str]) -> dict[str, list]:
@@ -181,10 +211,12 @@ def parse_components(text: str, site_id: str, existing_tags: set[str]) -> dict[s
 
 def import_components(store: Store, path: Path | str, site_id: str, actor: str = "") -> int:
     """Import a components CSV into a site in one transaction and one journal entry; returns the count."""
+    from fieldapp.paths import input_file
+
     try:
-        text = Path(path).read_text(encoding="utf-8-sig")
+        text = input_file(path, "file").read_text(encoding="utf-8-sig")
     except UnicodeDecodeError as exc:
-        raise ValidationError([FieldProblem("file", f"is not UTF-8 text ({exc.reason})")]) from None
+        raise ValidationError([FieldProblem("file", f"{path}: is not UTF-8 text ({exc.reason})")]) from None
     with gc_paused(), store.transaction():
         store.get("sites", site_id)
         existing = {r[0] for r in store.conn.execute(

@@ -202,11 +202,34 @@ def current_version(conn: sqlite3.Connection) -> int:
     if not has_meta:
         return 0
     row = conn.execute("SELECT value FROM meta WHERE key='schema_version'").fetchone()
-    return int(row[0]) if row else 0
+    try:
+        return int(row[0]) if row else 0
+    except ValueError:
+        raise sqlite3.DatabaseError(f"schema_version {row[0]!r} is not a number") from None
+
+
+class SchemaTooNewError(RuntimeError):
+    """The file was written by a newer plumebook: its schema version is above the newest known here."""
+
+    def __init__(self, found: int, known: int):
+        self.found, self.known = found, known
+        super().__init__(f"the store is at schema version {found}, this plumebook knows versions up to {known}; "
+                         "open it with a newer plumebook (nothing was changed)")
+
+
+def refuse_newer(conn: sqlite3.Connection) -> None:
+    """Raise ``SchemaTooNewError`` when the file is at a version above the newest known here."""
+    found = current_version(conn)
+    if found > LATEST:
+        raise SchemaTooNewError(found, LATEST)
 
 
 def migrate(conn: sqlite3.Connection, target: int = LATEST) -> list[int]:
-    """Apply every registered migration above the file's version, each in its own transaction."""
+    """Apply every registered migration above the file's version, each in its own transaction.
+
+    Refuses (``SchemaTooNewError``) a file whose version is above ``LATEST`` before writing anything.
+    """
+    refuse_newer(conn)
     applied = []
     for version, _name, fn in MIGRATIONS:
         if version > target or version <= current_version(conn):
