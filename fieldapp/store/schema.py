@@ -176,6 +176,13 @@ def _v7(conn: sqlite3.Connection) -> None:
     run_script(conn, "CREATE INDEX journal_batch ON journal(row_id) WHERE op = 'insert_batch';")
 
 
+@migration(9, "industry segment of a site")
+def _v9(conn: sqlite3.Connection) -> None:
+    # NULL = not set; estimates then default it from the site kind where that is unambiguous
+    # (fieldapp.store.estimates.site_segment), so no row is rewritten outside the journal.
+    run_script(conn, "ALTER TABLE sites ADD COLUMN segment TEXT;")
+
+
 LATEST = MIGRATIONS[-1][0]
 
 
