@@ -199,6 +199,8 @@ class PeriodReport:
     fingerprint: str
     made_at: str
     gwp_set: str = GWP_SET
+    duration_rule: str = ""
+    not_estimated: tuple[str, ...] = ()
 
 
 def period_report(store: Store, start: date, end: date, site_id: str | None = None,
@@ -209,7 +211,7 @@ def period_report(store: Store, start: date, end: date, site_id: str | None = No
     sites = store.rows(f"SELECT * FROM sites WHERE deleted = 0 {where} ORDER BY name", (site_id,) if site_id else ())
     lines = [x for x in leak_lines(store, leak_rows(store, site_id), end) if start.isoformat() <= x.detected_on <=
              end.isoformat()]
-    emissions, _skipped = emission_report(store, start, end, end, convention, site_id)
+    emissions, skipped = emission_report(store, start, end, end, convention, site_id)
     due, _problems = due_list(store, end, site_id)
     summaries = []
     for site in sites:
@@ -230,4 +232,5 @@ def period_report(store: Store, start: date, end: date, site_id: str | None = No
             sum(1 for x in mine if x.state in ("open", "attempted")), sum(1 for x in mine if x.state == "void"),
             overdue, kg, h[100] / 1000, h[20] / 1000))
     return PeriodReport(start, end, convention, summaries, CAUTIONS,
-                        fingerprint([asdict(s) for s in summaries], [asdict(x) for x in lines]), store.now_text())
+                        fingerprint([asdict(s) for s in summaries], [asdict(x) for x in lines]), store.now_text(),
+                        duration_rule=emissions.rule_text, not_estimated=tuple(skipped))

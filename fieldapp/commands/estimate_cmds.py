@@ -113,7 +113,7 @@ def _input(args: argparse.Namespace, book):
             changes = {"segment": _enum(IndustrySegment, args.segment, "segment"), "segment_note": ""}
         elif leak.segment is None:
             changes = {"segment_note": missing}
-        return dataclasses.replace(leak, **changes)
+        return dataclasses.replace(leak, **changes), missing
     problems = [FieldProblem(f, "is required (or name a stored leak with --leak)")
                 for f in ("type", "service") if not getattr(args, f)]
     if problems:

@@ -222,10 +222,13 @@ def _leaker(leak: LeakInput, book: FactorBook, factor_set: str | None) -> Estima
             scf, kg = None, factor.value
         return Estimate(kg, scf, "leaker_factor", factor.factor_set, factor.describe(), factor.citation,
                         factor.status, factor.verified, _composition(leak), tuple(notes), segment.value, why)
-    tried = ", ".join(n for n, _w in order) or "no table"
-    raise NoFactor(segment, f"no factor: {seg_text} is served by {tried}, which has no leaker factor for "
-                   f"{leak.component_type.value} in {leak.service.value} service; no other segment's table is "
-                   "used (add a user factor set that declares this segment)")
+    if order:
+        found = (f"{seg_text} is served by {', '.join(n for n, _w in order)}, which has no leaker factor for "
+                 f"{leak.component_type.value} in {leak.service.value} service")
+    else:
+        found = f"no shipped or user factor table serves {seg_text}"
+    raise NoFactor(segment, f"no factor: {found}; no other segment's table is used (a user factor set that "
+                   "declares this segment can supply one)")
 
 
 def estimate(leak: LeakInput, book: FactorBook, factor_set: str | None = None) -> Estimate:
