@@ -97,35 +97,46 @@ def totals(leaks: Iterable[LeakPeriod], start: date, end: date, as_of: date, con
     p0, p1 = start.toordinal(), end.toordinal() + 1
     open_stop = min(as_of.toordinal() + 1, p1)
     report = EmissionReport(start, end, convention, DURATION_RULE, duration_rule_text(convention))
-    day = date.fromordinal
+    days_of_period = [date.fromordinal(o) for o in range(p0, p1)]  # counted days always fall inside
     by_site: dict[str, Totals] = defaultdict(Totals)
     by_type: dict[str, Totals] = defaultdict(Totals)
     total = report.total
+    rows = report.rows
+    from_detection, from_previous = convention == "detection", convention == "previous_survey"
     for leak in leaks:
         if leak.void:
             continue
-        if convention == "detection":
+        if from_detection:
             first = leak.detected_on.toordinal()
-        elif convention == "previous_survey":
+        elif from_previous:
             first = (leak.previous_survey_on or leak.detected_on).toordinal()
         else:
             first = p0
-        last = leak.stopped_on.toordinal() if leak.stopped_on else open_stop
-        lo, hi = max(first, p0), min(last, p1)
+        stopped = leak.stopped_on
+        last = stopped.toordinal() if stopped else open_stop
+        lo = first if first > p0 else p0
+        hi = last if last < p1 else p1
         days = hi - lo
         if days <= 0:
             continue
         hours = days * 24.0
         kg = hours * leak.methane_kg_per_h
-        report.rows.append({"leak_id": leak.leak_id, "site": leak.site_name, "tag": leak.tag,
-                            "component_type": leak.component_type, "basis": leak.basis,
-                            "counted_from": day(lo), "counted_to": day(hi - 1), "stop": "repair" if leak.stopped_on
-                            and last <= p1 else "period_end" if hi == p1 else "as_of",
-                            "hours": hours, "methane_kg_per_h": leak.methane_kg_per_h, "methane_kg": kg,
-                            "duration_rule": DURATION_RULE})
-        for bucket in (by_site[leak.site_name], by_type[leak.component_type], total):
-            bucket.leaks += 1
-            bucket.hours += hours
-            bucket.methane_kg += kg
+        rows.append({"leak_id": leak.leak_id, "site": leak.site_name, "tag": leak.tag,
+                     "component_type": leak.component_type, "basis": leak.basis,
+                     "counted_from": days_of_period[lo - p0], "counted_to": days_of_period[hi - 1 - p0],
+                     "stop": "repair" if stopped and last <= p1 else "period_end" if hi == p1 else "as_of",
+                     "hours": hours, "methane_kg_per_h": leak.methane_kg_per_h, "methane_kg": kg,
+                     "duration_rule": DURATION_RULE})
+        bucket = by_site[leak.site_name]
+        bucket.leaks += 1
+        bucket.hours += hours
+        bucket.methane_kg += kg
+        bucket = by_type[leak.component_type]
+        bucket.leaks += 1
+        bucket.hours += hours
+        bucket.methane_kg += kg
+        total.leaks += 1
+        total.hours += hours
+        total.methane_kg += kg
     report.by_site, report.by_type = dict(by_site), dict(by_type)
     return report
