@@ -355,3 +355,26 @@ def test_inventory_estimate_uses_population_factors():
     assert result.missing == ("3 x thief_hatch in water_oil service",)
     with pytest.raises(EstimateError, match="region"):
         inventory_estimate(counts, BOOK, "northern", 0.8)
+
+
+def test_leaker_order_entry_must_serve_its_segment():
+    from fieldapp.core.factors import build_book
+
+    files = {"factor-sets.csv": [{"factor_set": "w-3a", "segments": "transmission_compression", "label": "W-3A",
+                                  "citation": "Table W-3A", "status": "text"}],
+             "leaker-order.csv": [{"segment": "onshore_production", "rank": "1", "factor_set": "w-3a",
+                                   "citation": "test", "status": "company", "note": ""}]}
+    book, problems = build_book(files)
+    assert book is None and any("does not declare segment onshore_production" in p.message for p in problems)
+
+
+def test_estimate_help_lists_the_gwp_names_and_segments(capsys):
+    from fieldapp.cli import main
+
+    try:
+        main(["estimate", "--help"])
+    except SystemExit:
+        pass
+    out = " ".join(capsys.readouterr().out.split())
+    assert "AR4, AR5 (default), AR5-feedback, AR6 (= AR6-fossil), AR6-fossil, AR6-non-fossil" in out
+    assert "transmission_compression" in out
