@@ -136,3 +136,16 @@ def test_segment_command(demo_store, capsys):
     assert code == 0 and "gathering_and_boosting" in out
     code, _, err = run(capsys, "--db", db, "segment", "Brackwater Tank Battery 1", "midstream")
     assert code == 2 and "segment" in err and "transmission_compression" in err
+
+
+def test_a_segment_set_on_a_tablet_reaches_the_office(demo_store, tmp_path):
+    from fieldapp.store.base import Store
+    from sync.bundle import make_device_bundle
+    from sync.merge import merge
+    from tests.conftest import Wall
+
+    site = demo_store.rows("SELECT id FROM sites WHERE name = 'Brackwater Tank Battery 1'")[0]["id"]
+    ops.edit(demo_store, "sites", site, {"segment": "gathering_and_boosting"})
+    office = Store(tmp_path / "office" / "store.db", actor="office", wall=Wall())
+    merge(office, make_device_bundle(demo_store, tmp_path / "b.zip").path)
+    assert office.get("sites", site)["segment"] == "gathering_and_boosting"
