@@ -16,7 +16,7 @@ from typing import Any
 from zoneinfo import ZoneInfo
 
 from fieldapp import catalog
-from fieldapp.core.estimate import EstimateError, co2e
+from fieldapp.core.estimate import EstimateError, NoFactor, co2e
 from fieldapp.core.lifecycle import deadlines, outstanding
 from fieldapp.store.base import Store
 from fieldapp.store.due import due_list
@@ -113,7 +113,8 @@ def leak_lines(store: Store, rows: list[dict[str, Any]], as_of: date | None = No
             resurvey_due=_d(due["resurvey"].due) if "resurvey" in due else "",
             delay_limit=_d(due["delay_limit"].due) if "delay_limit" in due else "",
             late=";".join(late), overdue=";".join(overdue),
-            basis="" if isinstance(rate, EstimateError) else rate.basis,
+            basis=rate.basis if not isinstance(rate, EstimateError) else "no_factor" if isinstance(rate, NoFactor)
+            else "",
             factor_row=str(rate) if isinstance(rate, EstimateError) else rate.factor_row,
             methane_kg_per_h=None if isinstance(rate, EstimateError) else rate.methane_kg_per_h,
             co2e_kg_per_h_100yr=horizons.get(100), co2e_kg_per_h_20yr=horizons.get(20),

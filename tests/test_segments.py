@@ -149,3 +149,25 @@ def test_a_segment_set_on_a_tablet_reaches_the_office(demo_store, tmp_path):
     office = Store(tmp_path / "office" / "store.db", actor="office", wall=Wall())
     merge(office, make_device_bundle(demo_store, tmp_path / "b.zip").path)
     assert office.get("sites", site)["segment"] == "gathering_and_boosting"
+
+
+def test_estimate_of_a_stored_leak_refuses_conflicting_inputs_and_takes_a_fraction(demo_store, capsys):
+    db = demo_store.path
+    leak_id = demo_store.rows("SELECT l.id FROM leaks l JOIN components c ON c.id = l.component_id "
+                              "WHERE c.tag = 'TD-0070'")[0]["id"]
+    code, _, err = run(capsys, "--db", db, "estimate", "--leak", leak_id, "--type", "valve")
+    assert code == 2 and "type" in err and "--leak" in err
+    # Table 2-8 light oil "others" 8.3E-02 kg TOC/h [memory] × weight fraction 0.5 given on the command line
+    code, out, _ = run(capsys, "--db", db, "estimate", "--leak", leak_id, "--methane-weight-fraction", "0.5",
+                       "--json")
+    assert code == 0 and json.loads(out)["methane_kg_per_h"] == pytest.approx(8.3e-2 * 0.5)
+
+
+def test_leaks_csv_marks_a_leak_without_factor(demo_store, tmp_path):
+    from sync.export import export_csv
+
+    station = demo_store.rows("SELECT id FROM sites WHERE name = 'Tamsin Draw Compressor Station'")[0]["id"]
+    ops.edit(demo_store, "sites", station, {"segment": "processing"})  # no processing table is shipped
+    export_csv(demo_store, tmp_path)
+    text = (tmp_path / "leaks.csv").read_text(encoding="utf-8")
+    assert ",no_factor," in text and "no shipped or user factor table serves onshore natural gas processing" in text

@@ -107,12 +107,21 @@ def _input(args: argparse.Namespace, book):
     from fieldapp.core.estimate import LeakInput
 
     if args.leak:
+        clash = [FieldProblem(f, "is not allowed with --leak (the stored leak's own value is used)")
+                 for f in ("type", "service", "site", "ppm", "measured") if getattr(args, f) is not None]
+        if clash:
+            raise ValidationError(clash)
         leak, missing = _stored_input(args, book)
-        changes = {}
+        changes: dict = {}
         if args.segment:
             changes = {"segment": _enum(IndustrySegment, args.segment, "segment"), "segment_note": ""}
-        elif leak.segment is None:
-            changes = {"segment_note": missing}
+        if args.methane_fraction is not None:
+            fraction = _number(args.methane_fraction, "methane-fraction", 0, 1)
+            changes |= {"methane_mole_fraction": fraction,
+                        "composition_note": f"methane mole fraction {fraction:g} given with --methane-fraction"}
+        if args.methane_weight_fraction is not None:
+            changes["methane_weight_fraction"] = _number(args.methane_weight_fraction, "methane-weight-fraction",
+                                                         0, 1)
         return dataclasses.replace(leak, **changes), missing
     problems = [FieldProblem(f, "is required (or name a stored leak with --leak)")
                 for f in ("type", "service") if not getattr(args, f)]
