@@ -378,3 +378,18 @@ def test_estimate_help_lists_the_gwp_names_and_segments(capsys):
     out = " ".join(capsys.readouterr().out.split())
     assert "AR4, AR5 (default), AR5-feedback, AR6 (= AR6-fossil), AR6-fossil, AR6-non-fossil" in out
     assert "transmission_compression" in out
+
+
+def test_underground_storage_uses_w4a_station_and_wellhead_rows():
+    # Table W-4A (81 FR 86517, Nov. 30, 2016) [text, read in the CFR text at govregs.com], scf/hour/component:
+    # storage station valve 14.84 (OGI); storage wellheads flange 3.8 (OGI), valve 3.2 (Method 21)
+    storage = IndustrySegment.UNDERGROUND_STORAGE
+    station = estimate(leak(segment=storage), BOOK)
+    assert (station.factor_set, station.whole_gas_scf_per_h) == ("w-4a", 14.84)
+    assert any("storage station" in a for a in station.assumptions)
+    assert estimate(leak("flange", segment=storage, wellhead_component=True), BOOK).whole_gas_scf_per_h == 3.8
+    m21 = estimate(leak(segment=storage, wellhead_component=True, survey_method=SurveyMethod.METHOD21), BOOK)
+    assert m21.whole_gas_scf_per_h == 3.2
+    # 3.2 scf/h × 0.9 × 0.0192 kg/scf = 0.055296 kg/h
+    assert m21.methane_kg_per_h == pytest.approx(0.055296)
+    assert len([k for k in BOOK.factors if k[0] == "w-4a"]) == 24

@@ -25,6 +25,8 @@ def register(sub: argparse._SubParsersAction) -> None:
     p.add_argument("--leak", help="stored leak id: estimated as stored, with its site's segment and composition")
     p.add_argument("--compressor-component", action="store_true",
                    help="the component belongs to a compressor (subpart W Table W-3A compressor rows)")
+    p.add_argument("--wellhead-component", action="store_true",
+                   help="the component is on a storage wellhead (subpart W Table W-4A wellhead rows)")
     p.add_argument("--method", default="ogi", help="how the leak was found: ogi, method21, avo")
     rate = p.add_mutually_exclusive_group()
     rate.add_argument("--ppm", help="Method 21 screening value (ppmv)")
@@ -151,7 +153,10 @@ def _input(args: argparse.Namespace, book):
         measured_unit=args.unit or "", segment=segment, segment_note=seg_note if segment else "",
         compressor_component=args.compressor_component,
         compressor_note="a compressor component (--compressor-component)" if args.compressor_component else
-        "taken as a non-compressor component (no --compressor-component)", composition_note=note), seg_note
+        "taken as a non-compressor component (no --compressor-component)",
+        wellhead_component=args.wellhead_component,
+        wellhead_note="a storage wellhead component (--wellhead-component)" if args.wellhead_component else
+        "taken as a storage station component (no --wellhead-component)", composition_note=note), seg_note
 
 
 def cmd_estimate(args: argparse.Namespace) -> int:

@@ -59,6 +59,8 @@ class LeakInput:
     segment_note: str = ""
     compressor_component: bool = False
     compressor_note: str = ""
+    wellhead_component: bool = False
+    wellhead_note: str = ""
     composition_note: str = ""
 
 
@@ -162,10 +164,11 @@ def _correlation(leak: LeakInput, book: FactorBook, eq) -> Estimate:
 def _leaker_candidates(leak: LeakInput, book: FactorBook, factor_set: str) -> Factor | None:
     epa_class, w_components = book.classes[leak.component_type]
     method = "method21" if leak.survey_method is SurveyMethod.METHOD21 else "ogi"
-    group = "compressor" if leak.compressor_component else "non_compressor"
+    groups = ("compressor" if leak.compressor_component else "non_compressor",
+              "storage_wellhead" if leak.wellhead_component else "storage_station", "")
     for component in dict.fromkeys((leak.component_type.value, *w_components)):
         for service in dict.fromkeys((leak.service.value, W_SERVICE.get(leak.service, ""))):
-            for g in (group, ""):
+            for g in groups:
                 found = book.find("leaker", component, service, method, g, factor_set=factor_set)
                 if found:
                     return found
@@ -183,9 +186,13 @@ def _leaker_notes(leak: LeakInput, factor: Factor) -> list[str]:
         notes.append("an OGI-visible leak is taken to screen at or above 10,000 ppmv")
     elif factor.key[0] != leak.component_type.value:
         notes.append(f"{leak.component_type.value} taken as the table's '{factor.key[0]}' row")
-    if factor.kind == "leaker" and len(factor.key) > 3 and factor.key[3]:
+    group = factor.key[3] if factor.kind == "leaker" and len(factor.key) > 3 else ""
+    if group in ("compressor", "non_compressor"):
         notes.append(leak.compressor_note or ("a compressor component" if leak.compressor_component else
                                               "taken as a non-compressor component"))
+    elif group in ("storage_station", "storage_wellhead"):
+        notes.append(leak.wellhead_note or ("a storage wellhead component" if leak.wellhead_component else
+                                            "taken as a storage station component, not a wellhead"))
     if not factor.verified:
         notes.append(f"factor row not verified against the published table ({factor.status})")
     if factor.note:

@@ -43,11 +43,21 @@ def compressor_component(row: dict[str, Any]) -> tuple[bool, str]:
                    if equipment else "taken as a non-compressor component: no equipment recorded")
 
 
+def wellhead_component(row: dict[str, Any]) -> tuple[bool, str]:
+    """Whether a component counts as a storage wellhead component (subpart W Table W-4A), and why."""
+    equipment = row.get("equipment") or ""
+    if "wellhead" in equipment.lower():
+        return True, f"a wellhead component: its equipment {equipment!r} names a wellhead"
+    return False, (f"taken as a station component: its equipment {equipment!r} does not name a wellhead"
+                   if equipment else "taken as a station component: no equipment recorded")
+
+
 def leak_input(row: dict[str, Any], book: FactorBook | None = None) -> tuple[LeakInput, str]:
     """Estimate inputs of a leak row joined with its component, survey and site, and (when the site has
     no segment) the note saying how to set one."""
     segment, seg_note = site_segment(row, book)
     on_compressor, comp_note = compressor_component(row)
+    on_wellhead, wellhead_note = wellhead_component(row)
     return LeakInput(
         component_type=ComponentType(row["component_type"]), service=Service(row["service"]),
         methane_mole_fraction=row["methane_mole_fraction"], methane_weight_fraction=row["methane_weight_fraction"],
@@ -55,6 +65,7 @@ def leak_input(row: dict[str, Any], book: FactorBook | None = None) -> tuple[Lea
         measured_rate=row["measured_rate"], measured_unit=row["measured_unit"] or "",
         measured_instrument=row["measured_instrument"] or "", segment=segment,
         segment_note=seg_note if segment else "", compressor_component=on_compressor, compressor_note=comp_note,
+        wellhead_component=on_wellhead, wellhead_note=wellhead_note,
         composition_note=f"gas composition of {row['site_name']}: methane mole fraction "
                          f"{row['methane_mole_fraction']:g}",
     ), seg_note if segment is None else ""

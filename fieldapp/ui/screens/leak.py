@@ -20,7 +20,7 @@ from fieldapp.core.fields import FieldProblem, ValidationError
 from fieldapp.evidence.ingest import add_media, library
 from fieldapp.evidence.probe import probe
 from fieldapp.store import ops
-from fieldapp.store.estimates import compressor_component, site_segment
+from fieldapp.store.estimates import compressor_component, site_segment, wellhead_component
 from fieldapp.ui import theme
 from fieldapp.ui.forms import Form, Spec
 from fieldapp.ui.screens.form_base import FormScreen
@@ -183,14 +183,15 @@ class LeakScreen(FormScreen):
         try:
             book = catalog.factor_book()
             segment, missing = site_segment(self.site, book)
-            on_compressor, _why = compressor_component({"component_type": values["type"],
-                                                        "equipment": values.get("equipment") or ""})
+            component = {"component_type": values["type"], "equipment": values.get("equipment") or ""}
+            on_compressor, on_wellhead = compressor_component(component)[0], wellhead_component(component)[0]
             leak = LeakInput(
                 ComponentType(values["type"]), Service(values["service"]), self.site["methane_mole_fraction"],
                 self.site["methane_weight_fraction"], SurveyMethod(self.survey["method"]),
                 float(values["screening_ppm"]) if values.get("screening_ppm") else None, None,
                 float(values["measured_rate"]) if values.get("measured_rate") else None,
-                values.get("measured_unit") or "", segment=segment, compressor_component=on_compressor)
+                values.get("measured_unit") or "", segment=segment, compressor_component=on_compressor,
+                wellhead_component=on_wellhead)
             if segment is None and leak.measured_rate is None:
                 return f"[b]Estimate:[/b] none ({missing})"
             result = estimate(leak, book)
