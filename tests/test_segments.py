@@ -93,6 +93,8 @@ def test_estimate_command_states_the_methane_fraction_default_and_takes_gwp_name
     assert code == 0 and got["methane_kg_per_h"] == pytest.approx(0.098) and got["gwp_set"] == "ar6-fossil"
     assert got["co2e_kg_per_h"] == pytest.approx(0.098 * 29.8)
     assert any("1.0 assumed" in a for a in got["assumptions"])
+    # AR6 20-year values are [memory] in gwp.csv: the estimate says so
+    assert any(a.startswith("AR6-FOSSIL 20-year GWP 82.5 not verified") for a in got["assumptions"])
     code, _, err = run(capsys, "estimate", "--type", "valve", "--service", "gas", "--segment", "onshore_production",
                        "--gwp", "AR9")
     assert code == 2 and "AR6-non-fossil" in err

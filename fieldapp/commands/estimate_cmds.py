@@ -187,7 +187,7 @@ def cmd_estimate(args: argparse.Namespace) -> int:
            "basis": result.basis, "segment": result.segment, "table_reason": result.table_reason,
            "factor_set": result.factor_set, "factor_row": result.factor_row,
            "source": result.source, "status": result.status, "verified": result.verified,
-           "composition": result.composition, "assumptions": list(result.assumptions),
+           "composition": result.composition, "assumptions": [*result.assumptions, *_gwp_notes(book, gwp)],
            "label": "engineering estimate"}
     if args.json:
         emit_json(out)
@@ -196,10 +196,16 @@ def cmd_estimate(args: argparse.Namespace) -> int:
               f"{horizons.get(20, 0):.4g} kg/h (20-yr), {gwp.upper()}")
         print(f"basis: {result.basis}; {result.factor_row}\nsource: {result.source} ({result.status})")
         print(f"segment: {result.segment or 'not given'}; why this table: {result.table_reason}")
-        for note in result.assumptions:
+        for note in out["assumptions"]:
             print(f"  assumption: {note}")
         print("An engineering estimate, not a measurement.")
     return 0
+
+
+def _gwp_notes(book, gwp: str) -> list[str]:
+    """Say which GWP values are not checked against the published report."""
+    return [f"{gwp.upper()} {h}-year GWP {c.value:g} not verified against the published report ({c.status}; "
+            f"{c.citation})" for (s, h), c in sorted(book.gwp.items()) if s == gwp and c.status != "text"]
 
 
 def _no_factor(args: argparse.Namespace, leak, reason: str, gwp: str) -> int:
