@@ -28,6 +28,8 @@ def render(report: PeriodReport) -> bytes:
              para(f"{len(report.sites)} site(s). Leaks counted by detection date inside the period; states and "
                   f"overdue items as of {report.end}. Emissions: engineering estimates, duration convention "
                   f"'{report.convention}', GWP {report.gwp_set.upper()} (100-year and 20-year).", "body"),
+             para(f"Duration rule: {report.duration_rule}.", "body"),
+             *(para(f"Not estimated: {line}", "body") for line in report.not_estimated),
              Spacer(1, 6)]
     rows = [["Site", "Program", "Surveys done", "Found", "Repaired", "On delay", "Still open", "Void",
              "CH4 (kg)", "CO2e t 100-yr", "CO2e t 20-yr"]]

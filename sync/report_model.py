@@ -16,7 +16,7 @@ from typing import Any
 from zoneinfo import ZoneInfo
 
 from fieldapp import catalog
-from fieldapp.core.estimate import EstimateError, co2e
+from fieldapp.core.estimate import EstimateError, NoFactor, co2e
 from fieldapp.core.lifecycle import deadlines, outstanding
 from fieldapp.store.base import Store
 from fieldapp.store.due import due_list
@@ -113,7 +113,8 @@ def leak_lines(store: Store, rows: list[dict[str, Any]], as_of: date | None = No
             resurvey_due=_d(due["resurvey"].due) if "resurvey" in due else "",
             delay_limit=_d(due["delay_limit"].due) if "delay_limit" in due else "",
             late=";".join(late), overdue=";".join(overdue),
-            basis="" if isinstance(rate, EstimateError) else rate.basis,
+            basis=rate.basis if not isinstance(rate, EstimateError) else "no_factor" if isinstance(rate, NoFactor)
+            else "",
             factor_row=str(rate) if isinstance(rate, EstimateError) else rate.factor_row,
             methane_kg_per_h=None if isinstance(rate, EstimateError) else rate.methane_kg_per_h,
             co2e_kg_per_h_100yr=horizons.get(100), co2e_kg_per_h_20yr=horizons.get(20),
@@ -199,6 +200,8 @@ class PeriodReport:
     fingerprint: str
     made_at: str
     gwp_set: str = GWP_SET
+    duration_rule: str = ""
+    not_estimated: tuple[str, ...] = ()
 
 
 def period_report(store: Store, start: date, end: date, site_id: str | None = None,
@@ -209,7 +212,7 @@ def period_report(store: Store, start: date, end: date, site_id: str | None = No
     sites = store.rows(f"SELECT * FROM sites WHERE deleted = 0 {where} ORDER BY name", (site_id,) if site_id else ())
     lines = [x for x in leak_lines(store, leak_rows(store, site_id), end) if start.isoformat() <= x.detected_on <=
              end.isoformat()]
-    emissions, _skipped = emission_report(store, start, end, end, convention, site_id)
+    emissions, skipped = emission_report(store, start, end, end, convention, site_id)
     due, _problems = due_list(store, end, site_id)
     summaries = []
     for site in sites:
@@ -230,4 +233,5 @@ def period_report(store: Store, start: date, end: date, site_id: str | None = No
             sum(1 for x in mine if x.state in ("open", "attempted")), sum(1 for x in mine if x.state == "void"),
             overdue, kg, h[100] / 1000, h[20] / 1000))
     return PeriodReport(start, end, convention, summaries, CAUTIONS,
-                        fingerprint([asdict(s) for s in summaries], [asdict(x) for x in lines]), store.now_text())
+                        fingerprint([asdict(s) for s in summaries], [asdict(x) for x in lines]), store.now_text(),
+                        duration_rule=emissions.rule_text, not_estimated=tuple(skipped))

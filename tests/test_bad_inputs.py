@@ -104,8 +104,8 @@ CASES: list[tuple[list[str], int, str]] = [
     ([], 2, "required"),
     (["nonsense"], 2, "invalid choice"),
     (["sites", "--bogus"], 2, "unrecognized"),
-    (["estimate"], 2, "--type"),
-    (["estimate", "--type", "valve"], 2, "--service"),
+    (["estimate"], 2, "type"),
+    (["estimate", "--type", "valve"], 2, "service"),
     (["estimate", "--type", "valve", "--service", "gas", "--ppm", "5", "--measured", "1"], 2, "not allowed with"),
     (["rules"], 2, "required"),
     (["rules", "deadlines"], 2, "--program"),
@@ -370,7 +370,7 @@ def test_good_input_still_works_after_the_bad(world, capsys, tmp_path):
     assert main(["--db", str(db), "export", "csv", "--out", str(tmp_path / "csv")]) == 0
     assert main(["--db", str(db), "rules", "deadlines", "--program", PROGRAM, "--detected", "2999-12-31"]) == 0
     assert main(["--db", str(db), "estimate", "--type", "valve", "--service", "gas", "--method", "method21",
-                 "--ppm", "1000000"]) == 0
+                 "--ppm", "1000000", "--segment", "onshore_production"]) == 0
     capsys.readouterr()
 
 
@@ -402,7 +402,8 @@ def test_estimate_json_at_the_limits_is_strict_json(capsys, extra):
     """RFC 8259 JSON has no NaN or Infinity: parsing refuses them here (parse_constant)."""
     import json
 
-    assert main(["estimate", "--type", "valve", "--service", "gas", *extra, "--json"]) == 0
+    assert main(["estimate", "--type", "valve", "--service", "gas", "--segment", "onshore_production", *extra,
+                 "--json"]) == 0
     out = capsys.readouterr().out
 
     def refuse(name):

@@ -17,14 +17,15 @@ from hypothesis import strategies as st
 from fieldapp import catalog
 from fieldapp.core import units
 from fieldapp.core.emissions import LeakPeriod, totals
-from fieldapp.core.enums import ComponentType, Service, SurveyMethod
-from fieldapp.core.estimate import EstimateError, LeakInput, co2e, estimate
+from fieldapp.core.enums import ComponentType, IndustrySegment, Service, SurveyMethod
+from fieldapp.core.estimate import EstimateError, LeakInput, NoFactor, co2e, estimate, gwp_set_name
 
 BOOK = catalog.factor_book()
+PROD, TRANS = IndustrySegment.ONSHORE_PRODUCTION, IndustrySegment.TRANSMISSION_COMPRESSION
 
 
 def leak(ctype="valve", service="gas", x=0.9, **kw):
-    return LeakInput(ComponentType(ctype), Service(service), x, **kw)
+    return LeakInput(ComponentType(ctype), Service(service), x, **{"segment": PROD, **kw})
 
 
 def test_shipped_table_values():
@@ -36,9 +37,31 @@ def test_shipped_table_values():
     assert f[("epa-453-2-8", "screening_range", "connectors", "gas", ">=10000")].value == 2.6e-2
     # 40 CFR 98 Table W-1A, western gas valve 0.121 scf/h [text]; Table W-3A PRV by OGI 39.66 scf/h [text]
     assert f[("w-1a", "population", "valve", "gas", "western")].value == 0.121
-    assert f[("w-3a", "leaker", "pressure_relief_valve", "gas", "ogi")].value == 39.66
+    assert f[("w-3a", "leaker", "pressure_relief_valve", "gas", "ogi", "compressor")].value == 39.66
+
+
+# Table W-3A to subpart W (81 FR 86516, Nov. 30, 2016) [text, read in the CFR text at federal.elaws.us]:
+# scf/hour/component, (OGI and other 98.234(a)(1)-(6) methods, Method 21 per 98.234(a)(7)).
+W3A = {"compressor": {"valve": (14.84, 9.51), "connector": (5.59, 3.58), "open_ended_line": (17.27, 11.07),
+                      "pressure_relief_valve": (39.66, 25.42), "meter_or_instrument": (19.33, 12.39),
+                      "other": (4.1, 2.63)},
+       "non_compressor": {"valve": (6.42, 4.12), "connector": (5.71, 3.66), "open_ended_line": (11.27, 7.22),
+                          "pressure_relief_valve": (2.01, 1.29), "meter_or_instrument": (2.93, 1.88),
+                          "other": (4.1, 2.63)}}
+
+
+def test_w3a_is_complete_and_marked_text():
+    f = BOOK.factors
+    rows = {k: v for k, v in f.items() if k[0] == "w-3a"}
+    assert len(rows) == 24
+    for group, table in W3A.items():
+        for component, (ogi, m21) in table.items():
+            for method, value in (("ogi", ogi), ("method21", m21)):
+                row = f[("w-3a", "leaker", component, "gas", method, group)]
+                assert (row.value, row.status, row.verified) == (value, "text", True)
+    assert BOOK.set_info["w-3a"].segments == (TRANS,)
     # former Table W-1E row is [memory, low confidence]: shipped, marked unverified
-    assert not f[("w-1e", "leaker", "valve", "gas", "ogi")].verified
+    assert not f[("w-1e", "leaker", "valve", "gas", "ogi", "")].verified
 
 
 def test_worked_example_whole_gas_to_methane():
@@ -55,23 +78,109 @@ def test_methane_density_matches_molar_volume():
     assert BOOK.constant("methane_density_kg_per_scf") == pytest.approx(16.043 / 836.5, abs=5e-5)
 
 
-def test_leaker_factor_for_an_ogi_leak():
-    # W-3A gas valve, OGI: 14.84 scf/h whole gas [text]; × 0.9 × 0.0192 = 0.256435 kg/h
-    result = estimate(leak(), BOOK)
-    assert (result.basis, result.factor_set) == ("leaker_factor", "w-3a")
+def test_transmission_compressor_valve_gets_the_w3a_compressor_row():
+    # W-3A compressor components, gas valve, OGI: 14.84 scf/h whole gas [text]; × 0.9 × 0.0192 = 0.256435 kg/h
+    result = estimate(leak(segment=TRANS, compressor_component=True), BOOK)
+    assert (result.basis, result.factor_set, result.segment) == ("leaker_factor", "w-3a", "transmission_compression")
     assert result.methane_kg_per_h == pytest.approx(14.84 * 0.9 * 0.0192)
     assert result.whole_gas_scf_per_h == 14.84
+    assert "98.230(a)(4)" in result.table_reason and "W-3A" in result.table_reason
     # same table, Method 21 column: 9.51 scf/h [text]
-    m21 = estimate(leak(survey_method=SurveyMethod.METHOD21), BOOK)
+    m21 = estimate(leak(segment=TRANS, compressor_component=True, survey_method=SurveyMethod.METHOD21), BOOK)
     assert m21.methane_kg_per_h == pytest.approx(9.51 * 0.9 * 0.0192)
 
 
-def test_leaker_falls_back_to_screening_range_factor_when_no_leaker_row():
-    # flanges: no W-3A row; EPA Table 2-8 gas flange >= 10,000 ppmv 8.2E-02 kg TOC/h [memory]
-    result = estimate(leak("flange", methane_weight_fraction=0.75), BOOK)
+def test_transmission_meter_leaker_gets_the_w3a_meter_row():
+    # W-3A "Meter or Instrument": compressor components 19.33, non-compressor components 2.93 scf/h (OGI) [text]
+    on = estimate(leak("instrument", segment=TRANS, compressor_component=True), BOOK)
+    off = estimate(leak("instrument", segment=TRANS), BOOK)
+    assert on.factor_row.startswith("w-3a leaker meter_or_instrument/gas/ogi/compressor = 19.33")
+    assert off.factor_row.startswith("w-3a leaker meter_or_instrument/gas/ogi/non_compressor = 2.93")
+    # 2.93 scf/h × 0.9 methane mole fraction × 0.0192 kg/scf = 0.05063 kg/h
+    assert off.methane_kg_per_h == pytest.approx(0.0506304)
+    assert any("non-compressor" in a for a in off.assumptions)
+
+
+def test_production_gas_valve_never_cites_w3a():
+    # Onshore production: EPA-453/R-95-017 Table 2-8 gas valve >= 10,000 ppmv 9.8E-02 kg TOC/h [memory];
+    # × 0.68 methane weight fraction = 0.06664 kg CH4/h. W-3A serves transmission compression only (its title).
+    for method in (SurveyMethod.OGI, SurveyMethod.METHOD21, SurveyMethod.AVO):
+        for on_compressor in (False, True):
+            result = estimate(leak(survey_method=method, compressor_component=on_compressor,
+                                   methane_weight_fraction=0.68), BOOK)
+            assert result.factor_set == "epa-453-2-8" and "W-3A" not in result.source
+            assert result.methane_kg_per_h == pytest.approx(9.8e-2 * 0.68)
+            assert result.segment == "onshore_production" and "W-1E" in result.table_reason
+            assert any("not verified" in a for a in result.assumptions)
+
+
+def test_gathering_flange_uses_table_2_8():
+    # EPA Table 2-8 gas flange >= 10,000 ppmv 8.2E-02 kg TOC/h [memory]
+    result = estimate(leak("flange", segment=IndustrySegment.GATHERING_AND_BOOSTING, methane_weight_fraction=0.75),
+                      BOOK)
     assert result.factor_set == "epa-453-2-8"
     assert result.methane_kg_per_h == pytest.approx(8.2e-2 * 0.75)
-    assert any("not verified" in a for a in result.assumptions)
+
+
+def test_transmission_flange_is_the_w3a_connector_row():
+    # Table W-6 footnote 3 keeps flanges out of "Other" [text]; W-3A non-compressor connector 5.71 scf/h [text]
+    result = estimate(leak("flange", segment=TRANS), BOOK)
+    assert result.whole_gas_scf_per_h == 5.71
+    assert any("taken as the table's 'connector' row" in a for a in result.assumptions)
+
+
+def test_no_table_for_the_segment_means_no_factor():
+    # W-3A is gas service only [text]; processing and distribution have no verified table shipped:
+    # nothing falls through to another segment's table.
+    with pytest.raises(NoFactor, match="no factor: onshore natural gas transmission compression"):
+        estimate(leak(service="light_liquid", segment=TRANS), BOOK)
+    for seg in (IndustrySegment.PROCESSING, IndustrySegment.DISTRIBUTION, IndustrySegment.OUTSIDE_SUBPART_W):
+        with pytest.raises(NoFactor, match="no shipped or user factor table serves"):
+            estimate(leak(segment=seg), BOOK)
+    # Table 2-8 has no heavy-oil column [memory]: heavy liquid at a production site gets no factor
+    with pytest.raises(NoFactor):
+        estimate(leak(service="heavy_liquid"), BOOK)
+
+
+def test_segment_is_required_for_factor_estimates_but_not_for_measured_rates():
+    with pytest.raises(EstimateError, match="segment"):
+        estimate(leak(segment=None), BOOK)
+    measured = estimate(leak(segment=None, measured_rate=10, measured_unit="scf/h"), BOOK)
+    assert measured.basis == "measured"
+
+
+def test_an_explicit_set_of_another_segment_says_so():
+    result = estimate(leak(compressor_component=True), BOOK, "w-3a")
+    assert result.factor_set == "w-3a" and "serves another segment" in result.table_reason
+
+
+def test_screening_value_at_transmission_uses_the_segment_leaker_factor():
+    # the EPA-453 correlation is declared for production and gathering only; W-3A Method 21 non-compressor
+    # valve 4.12 scf/h [text]
+    result = estimate(leak(segment=TRANS, screening_ppm=5000, survey_method=SurveyMethod.METHOD21), BOOK)
+    assert (result.basis, result.whole_gas_scf_per_h) == ("leaker_factor", 4.12)
+    assert any("screening value of 5000" in a for a in result.assumptions)
+
+
+def test_kind_defaults_only_where_unambiguous():
+    from fieldapp.core.enums import SiteKind
+
+    assert BOOK.default_segment(SiteKind.WELL_SITE) is PROD
+    assert BOOK.default_segment(SiteKind.GAS_PLANT) is IndustrySegment.PROCESSING
+    for kind in (SiteKind.COMPRESSOR_STATION, SiteKind.TANK_BATTERY, SiteKind.PROCESS_UNIT):
+        assert BOOK.default_segment(kind) is None
+
+
+def test_gwp_names_as_the_ipcc_writes_them():
+    # IPCC assessment report names AR4, AR5, AR6; AR6 alone is fossil methane (oil and gas methane is fossil;
+    # common practice, no source). AR6 WG1 Table 7.15: fossil 29.8, non-fossil 27.0 (100-yr) [text]
+    for text, key in (("AR5", "ar5"), ("ar4", "ar4"), ("Ar5-Feedback", "ar5-feedback"), ("AR6", "ar6-fossil"),
+                      ("AR6 fossil", "ar6-fossil"), ("AR6_non-fossil", "ar6-non-fossil"),
+                      ("ar6 nonfossil", "ar6-non-fossil")):
+        assert gwp_set_name(text, BOOK) == key
+    assert co2e(1, BOOK, "AR6")[100] == 29.8
+    with pytest.raises(EstimateError, match="AR6-non-fossil"):
+        gwp_set_name("AR7", BOOK)
 
 
 @pytest.mark.parametrize("ctype, ppm, a, b", [
@@ -191,12 +300,24 @@ def test_totals_by_site_and_type():
 
 def test_user_factor_set_goes_first(tmp_path, monkeypatch):
     (tmp_path / "ours.csv").write_text(
-        "factor_set,kind,component,service,method,value,unit,citation,status,verified,note\n"
-        "acme-2026,leaker,valve,gas,ogi,3.0,scf whole gas/h/leaking component,company study 2026,company,yes,\n")
+        "factor_set,kind,component,service,method,value,unit,citation,status,verified,note,segments\n"
+        "acme-2026,leaker,valve,gas,ogi,3.0,scf whole gas/h/leaking component,company study 2026,company,yes,,"
+        "onshore_production\n")
     monkeypatch.setenv("PLUMEBOOK_FACTORS", str(tmp_path))
     book = catalog.factor_book()
-    assert book.leaker_order[0] == "acme-2026"
+    assert book.leaker_order[PROD][0].factor_set == "acme-2026"
     assert estimate(leak(), book).methane_kg_per_h == pytest.approx(3.0 * 0.9 * 0.0192)
+    # it declares production only: a transmission leak keeps W-3A (non-compressor valve 6.42 scf/h [text])
+    assert estimate(leak(segment=TRANS), book).whole_gas_scf_per_h == 6.42
+
+
+def test_user_factor_set_must_declare_its_segments(tmp_path, monkeypatch):
+    (tmp_path / "ours.csv").write_text(
+        "factor_set,kind,component,service,method,value,unit,citation,status,verified\n"
+        "acme-2026,leaker,valve,gas,ogi,3.0,scf whole gas/h/leaking component,company study 2026,company,yes\n")
+    monkeypatch.setenv("PLUMEBOOK_FACTORS", str(tmp_path))
+    with pytest.raises(catalog.ValidationError, match="segments: is required"):
+        catalog.factor_book()
 
 
 def test_invalid_user_factor_file_names_line_and_column(tmp_path, monkeypatch):
@@ -234,3 +355,41 @@ def test_inventory_estimate_uses_population_factors():
     assert result.missing == ("3 x thief_hatch in water_oil service",)
     with pytest.raises(EstimateError, match="region"):
         inventory_estimate(counts, BOOK, "northern", 0.8)
+
+
+def test_leaker_order_entry_must_serve_its_segment():
+    from fieldapp.core.factors import build_book
+
+    files = {"factor-sets.csv": [{"factor_set": "w-3a", "segments": "transmission_compression", "label": "W-3A",
+                                  "citation": "Table W-3A", "status": "text"}],
+             "leaker-order.csv": [{"segment": "onshore_production", "rank": "1", "factor_set": "w-3a",
+                                   "citation": "test", "status": "company", "note": ""}]}
+    book, problems = build_book(files)
+    assert book is None and any("does not declare segment onshore_production" in p.message for p in problems)
+
+
+def test_estimate_help_lists_the_gwp_names_and_segments(capsys):
+    from fieldapp.cli import main
+
+    try:
+        main(["estimate", "--help"])
+    except SystemExit:
+        pass
+    out = " ".join(capsys.readouterr().out.split())
+    assert "AR4, AR5 (default), AR5-feedback, AR6 (= AR6-fossil), AR6-fossil, AR6-non-fossil" in out
+    assert "transmission_compression" in out
+
+
+def test_underground_storage_uses_w4a_station_and_wellhead_rows():
+    # Table W-4A (81 FR 86517, Nov. 30, 2016) [text, read in the CFR text at govregs.com], scf/hour/component:
+    # storage station valve 14.84 (OGI); storage wellheads flange 3.8 (OGI), valve 3.2 (Method 21)
+    storage = IndustrySegment.UNDERGROUND_STORAGE
+    station = estimate(leak(segment=storage), BOOK)
+    assert (station.factor_set, station.whole_gas_scf_per_h) == ("w-4a", 14.84)
+    assert any("storage station" in a for a in station.assumptions)
+    assert estimate(leak("flange", segment=storage, wellhead_component=True), BOOK).whole_gas_scf_per_h == 3.8
+    m21 = estimate(leak(segment=storage, wellhead_component=True, survey_method=SurveyMethod.METHOD21), BOOK)
+    assert m21.whole_gas_scf_per_h == 3.2
+    # 3.2 scf/h × 0.9 × 0.0192 kg/scf = 0.055296 kg/h
+    assert m21.methane_kg_per_h == pytest.approx(0.055296)
+    assert len([k for k in BOOK.factors if k[0] == "w-4a"]) == 24

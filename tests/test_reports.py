@@ -52,6 +52,8 @@ def test_period_pdf_holds_per_site_totals(demo_store):
     total = sum(s.methane_kg for s in report.sites)
     assert f"{total:,.1f}" in text
     assert "overdue" in text.lower()
+    # the duration rule is stated (fieldapp.core.emissions, rule to_repair)
+    assert "Duration rule: hours counted from the detection day to the day of the repair" in " ".join(text.split())
 
 
 def test_csv_matches_the_report_model_and_reads_back(demo_store, tmp_path):

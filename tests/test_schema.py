@@ -54,3 +54,24 @@ def test_actions_and_journal_are_append_only(demo_store):
                 "DELETE FROM actions"):
         with pytest.raises(sqlite3.DatabaseError, match="append-only"):
             demo_store.conn.execute(sql)
+
+
+def test_version_7_file_upgrades_with_no_segment_and_defaults_from_an_unambiguous_kind(tmp_path):
+    path = tmp_path / "old.db"
+    conn = sqlite3.connect(path, isolation_level=None)
+    assert schema.migrate(conn, target=7) == [1, 2, 3, 4, 5, 6, 7]
+    for sid, kind in (("s1", "well_site"), ("s2", "compressor_station")):
+        conn.execute("INSERT INTO sites (id, name, kind, program_id, timezone, methane_mole_fraction) "
+                     "VALUES (?, ?, ?, 'us-nsps-oooo-a', 'America/Denver', 0.8)", (sid, f"Old {kind}", kind))
+    conn.close()
+    store = Store(path)
+    assert schema.current_version(store.conn) == schema.LATEST >= 9
+    pad, station = store.get("sites", "s1"), store.get("sites", "s2")
+    assert pad["segment"] is None and station["segment"] is None  # nothing rewritten outside the journal
+    from fieldapp.store.estimates import site_segment
+
+    segment, note = site_segment(pad)
+    assert segment == "onshore_production" and "defaulted from the site kind well_site" in note
+    # a compressor station may be gathering and boosting or transmission: no default
+    segment, note = site_segment(station)
+    assert segment is None and "ambiguous" in note and "plumebook segment" in note

@@ -20,6 +20,23 @@ class SiteKind(StrEnum):
     PROCESS_UNIT = "process_unit"
 
 
+class IndustrySegment(StrEnum):
+    """Industry segment of a site, as 40 CFR 98.230(a) lists them (labels and paragraphs in
+    fieldapp/data/factors/segments.csv); ``outside_subpart_w`` for a site in none of them."""
+
+    OFFSHORE_PRODUCTION = "offshore_production"
+    ONSHORE_PRODUCTION = "onshore_production"
+    PROCESSING = "processing"
+    TRANSMISSION_COMPRESSION = "transmission_compression"
+    UNDERGROUND_STORAGE = "underground_storage"
+    LNG_STORAGE = "lng_storage"
+    LNG_IMPORT_EXPORT = "lng_import_export"
+    DISTRIBUTION = "distribution"
+    GATHERING_AND_BOOSTING = "gathering_and_boosting"
+    TRANSMISSION_PIPELINE = "transmission_pipeline"
+    OUTSIDE_SUBPART_W = "outside_subpart_w"
+
+
 class ComponentType(StrEnum):
     """Kinds of equipment that can leak."""
 

@@ -4,16 +4,22 @@ Order, best first (../shared/reference/emission-factors.md): a measured rate; a 
 value through the correlation equation (default-zero and pegged values handled); a leaker factor
 for the component type and service. A population average is never the rate of one leak.
 
+Factor tables serve industry segments (40 CFR 98.230(a)): a leaker factor comes only from the
+tables in the leak's segment's leaker order (or a set named explicitly, which the estimate then says
+serves another segment when it does). When no table serves the segment, component and service,
+``NoFactor`` says so; nothing falls through to another segment's table.
+
 Worked example (subpart W leaker structure): 10 scf/h of whole gas at 0.90 methane mole fraction is
 9.0 scf/h of methane; at 0.0192 kg/scf (40 CFR 98.233 [memory]) that is 0.1728 kg/h.
 """
 
 from __future__ import annotations
 
+import re
 from dataclasses import dataclass, field
 
 from fieldapp.core import units
-from fieldapp.core.enums import ComponentType, Service, SurveyMethod
+from fieldapp.core.enums import ComponentType, IndustrySegment, Service, SurveyMethod
 from fieldapp.core.factors import EPA_SERVICE, W_SERVICE, Factor, FactorBook
 
 PEGGED_LIMITS = (10_000.0, 100_000.0)
@@ -25,6 +31,14 @@ class EstimateError(ValueError):
     def __init__(self, field: str, message: str):
         self.field = field
         super().__init__(f"{field}: {message}")
+
+
+class NoFactor(EstimateError):
+    """Valid inputs, but no shipped or user table serves the segment, component and service."""
+
+    def __init__(self, segment: IndustrySegment, message: str):
+        self.segment = segment
+        super().__init__("type", message)
 
 
 @dataclass(frozen=True, slots=True)
@@ -41,6 +55,13 @@ class LeakInput:
     measured_rate: float | None = None
     measured_unit: str = ""
     measured_instrument: str = ""
+    segment: IndustrySegment | None = None
+    segment_note: str = ""
+    compressor_component: bool = False
+    compressor_note: str = ""
+    wellhead_component: bool = False
+    wellhead_note: str = ""
+    composition_note: str = ""
 
 
 @dataclass(frozen=True, slots=True)
@@ -57,11 +78,24 @@ class Estimate:
     verified: bool
     composition: dict = field(default_factory=dict)
     assumptions: tuple[str, ...] = ()
+    segment: str = ""
+    table_reason: str = ""
 
 
 def _composition(leak: LeakInput) -> dict:
     return {"methane_mole_fraction": leak.methane_mole_fraction,
             "methane_weight_fraction": leak.methane_weight_fraction}
+
+
+def _first_notes(leak: LeakInput) -> list[str]:
+    return [n for n in (leak.composition_note, leak.segment_note) if n]
+
+
+def _segment_text(leak: LeakInput, book: FactorBook) -> str:
+    if leak.segment is None:
+        return "segment not given"
+    seg = book.segments.get(leak.segment)
+    return seg.describe() if seg else leak.segment.value
 
 
 def _from_toc(kg_toc: float, leak: LeakInput, notes: list[str]) -> float:
@@ -81,7 +115,7 @@ def _from_whole_gas(scf: float, leak: LeakInput, book: FactorBook, notes: list[s
 
 
 def _measured(leak: LeakInput, book: FactorBook) -> Estimate:
-    notes = [f"measured with {leak.measured_instrument or 'an unnamed instrument'}"]
+    notes = [*_first_notes(leak), f"measured with {leak.measured_instrument or 'an unnamed instrument'}"]
     rate, unit = leak.measured_rate, leak.measured_unit
     assert rate is not None
     try:
@@ -96,17 +130,15 @@ def _measured(leak: LeakInput, book: FactorBook) -> Estimate:
         notes.append("a measured volume rate is taken as whole gas at standard conditions")
         kg = _from_whole_gas(scf, leak, book, notes)
     return Estimate(kg, scf, "measured", "", f"{rate:g} {unit}", "measurement entered by the user", "measured",
-                    True, _composition(leak), tuple(notes))
+                    True, _composition(leak), tuple(notes), leak.segment.value if leak.segment else "",
+                    f"{_segment_text(leak, book)}: a measured rate needs no factor table")
 
 
-def _correlation(leak: LeakInput, book: FactorBook) -> Estimate:
+def _correlation(leak: LeakInput, book: FactorBook, eq) -> Estimate:
     ppm = leak.screening_ppm
-    assert ppm is not None
+    assert ppm is not None and leak.segment is not None
     epa_class = book.classes[leak.component_type][0]
-    eq = book.correlations.get(epa_class)
-    if eq is None:
-        raise EstimateError("type", f"no correlation equation for {epa_class}")
-    notes: list[str] = []
+    notes: list[str] = _first_notes(leak)
     if leak.pegged_at is not None and leak.pegged_at not in PEGGED_LIMITS:
         raise EstimateError("pegged_at", "allowed: 10000, 100000 (ppmv)")
     if ppm == 0:
@@ -121,36 +153,73 @@ def _correlation(leak: LeakInput, book: FactorBook) -> Estimate:
         basis, kg_toc = "correlation", eq.rate(ppm)
         row = f"{epa_class}: {eq.a:g} x SV^{eq.b:g} at SV = {ppm:g} ppmv"
     kg = _from_toc(kg_toc, leak, notes)
+    if not eq.verified:
+        notes.append(f"correlation coefficients not verified against the published document ({eq.status})")
+    reason = (f"{_segment_text(leak, book)}: a Method 21 screening value was recorded, and "
+              f"{book.set_info['epa-453-correlation'].label} declare this segment")
     return Estimate(kg, None, basis, "epa-453-correlation", row, eq.citation, eq.status, eq.verified,
-                    _composition(leak), tuple(notes))
+                    _composition(leak), tuple(notes), leak.segment.value, reason)
 
 
 def _leaker_candidates(leak: LeakInput, book: FactorBook, factor_set: str) -> Factor | None:
-    epa_class, w_component = book.classes[leak.component_type]
+    epa_class, w_components = book.classes[leak.component_type]
     method = "method21" if leak.survey_method is SurveyMethod.METHOD21 else "ogi"
-    for component in (leak.component_type.value, w_component):
-        for service in (leak.service.value, W_SERVICE.get(leak.service, "")):
-            found = book.find("leaker", component, service, method, factor_set=factor_set)
-            if found:
-                return found
+    groups = ("compressor" if leak.compressor_component else "non_compressor",
+              "storage_wellhead" if leak.wellhead_component else "storage_station", "")
+    for component in dict.fromkeys((leak.component_type.value, *w_components)):
+        for service in dict.fromkeys((leak.service.value, W_SERVICE.get(leak.service, ""))):
+            for g in groups:
+                found = book.find("leaker", component, service, method, g, factor_set=factor_set)
+                if found:
+                    return found
     return book.find("screening_range", epa_class, EPA_SERVICE[leak.service], ">=10000", factor_set=factor_set)
 
 
+def _leaker_notes(leak: LeakInput, factor: Factor) -> list[str]:
+    notes = _first_notes(leak)
+    if leak.screening_ppm is not None:
+        notes.append(f"a screening value of {leak.screening_ppm:g} ppmv was recorded, but no correlation equation "
+                     "is declared for this segment: the segment's leaker factor is used")
+    if leak.survey_method is SurveyMethod.AVO:
+        notes.append("found by AVO: the OGI leaker factor is used")
+    if factor.kind == "screening_range":
+        notes.append("an OGI-visible leak is taken to screen at or above 10,000 ppmv")
+    elif factor.key[0] != leak.component_type.value:
+        notes.append(f"{leak.component_type.value} taken as the table's '{factor.key[0]}' row")
+    group = factor.key[3] if factor.kind == "leaker" and len(factor.key) > 3 else ""
+    if group in ("compressor", "non_compressor"):
+        notes.append(leak.compressor_note or ("a compressor component" if leak.compressor_component else
+                                              "taken as a non-compressor component"))
+    elif group in ("storage_station", "storage_wellhead"):
+        notes.append(leak.wellhead_note or ("a storage wellhead component" if leak.wellhead_component else
+                                            "taken as a storage station component, not a wellhead"))
+    if not factor.verified:
+        notes.append(f"factor row not verified against the published table ({factor.status})")
+    if factor.note:
+        notes.append(factor.note)
+    return notes
+
+
 def _leaker(leak: LeakInput, book: FactorBook, factor_set: str | None) -> Estimate:
-    order = (factor_set,) if factor_set else book.leaker_order
-    for name in order:
+    segment = leak.segment
+    assert segment is not None
+    seg_text = _segment_text(leak, book)
+    if factor_set:
+        if factor_set not in book.set_info:
+            raise EstimateError("factor_set", f"{factor_set!r} is not allowed; allowed: {', '.join(book.set_info)}")
+        served = ", ".join(s.value for s in book.set_info[factor_set].segments)
+        why = (f"{seg_text}: {factor_set} named explicitly; it serves this segment" if book.serves(factor_set, segment)
+               else f"{seg_text}: {factor_set} named explicitly, although it serves another segment ({served}), "
+                    "not this one")
+        order = [(factor_set, why)]
+    else:
+        order = [(e.factor_set, f"{seg_text}: {book.set_info[e.factor_set].label}; {e.reason}")
+                 for e in book.leaker_order.get(segment, ())]
+    for name, why in order:
         factor = _leaker_candidates(leak, book, name)
         if factor is None:
             continue
-        notes = []
-        if leak.survey_method is SurveyMethod.AVO:
-            notes.append("found by AVO: the OGI leaker factor is used")
-        if factor.kind == "screening_range":
-            notes.append("an OGI-visible leak is taken to screen at or above 10,000 ppmv")
-        if not factor.verified:
-            notes.append(f"factor row not verified against the published table ({factor.status})")
-        if factor.note:
-            notes.append(factor.note)
+        notes = _leaker_notes(leak, factor)
         if factor.basis == "whole_gas_volume":
             scf = factor.value
             kg = _from_whole_gas(scf, leak, book, notes)
@@ -159,10 +228,14 @@ def _leaker(leak: LeakInput, book: FactorBook, factor_set: str | None) -> Estima
         else:
             scf, kg = None, factor.value
         return Estimate(kg, scf, "leaker_factor", factor.factor_set, factor.describe(), factor.citation,
-                        factor.status, factor.verified, _composition(leak), tuple(notes))
-    sets = factor_set or ", ".join(book.leaker_order)
-    raise EstimateError("type", f"no leaker factor for {leak.component_type.value} in {leak.service.value} "
-                        f"service in {sets}; add a factor set file")
+                        factor.status, factor.verified, _composition(leak), tuple(notes), segment.value, why)
+    if order:
+        found = (f"{seg_text} is served by {', '.join(n for n, _w in order)}, which has no leaker factor for "
+                 f"{leak.component_type.value} in {leak.service.value} service")
+    else:
+        found = f"no shipped or user factor table serves {seg_text}"
+    raise NoFactor(segment, f"no factor: {found}; no other segment's table is used (a user factor set that "
+                   "declares this segment can supply one)")
 
 
 def estimate(leak: LeakInput, book: FactorBook, factor_set: str | None = None) -> Estimate:
@@ -171,16 +244,43 @@ def estimate(leak: LeakInput, book: FactorBook, factor_set: str | None = None) -
         raise EstimateError("methane_fraction", "must be between 0 and 1")
     if leak.measured_rate is not None:
         return _measured(leak, book)
-    if leak.screening_ppm is not None:
-        return _correlation(leak, book)
+    if leak.segment is None:
+        raise EstimateError("segment", "is required for a factor-based estimate (the site's industry segment, "
+                            f"40 CFR 98.230(a)); allowed: {', '.join(IndustrySegment)}")
+    if leak.screening_ppm is not None and factor_set is None:
+        eq = book.correlations.get(book.classes[leak.component_type][0])
+        if eq is not None and book.serves("epa-453-correlation", leak.segment):
+            return _correlation(leak, book, eq)
     return _leaker(leak, book, factor_set)
+
+
+GWP_ALIASES = {"ar6": "ar6-fossil"}
+
+
+def gwp_set_name(text: str, book: FactorBook) -> str:
+    """The GWP set a user spelled, case-insensitively: 'AR5', 'ar6 fossil', 'AR6_non-fossil', 'AR6nonfossil'.
+
+    'AR6' alone is AR6 fossil methane: methane from oil and gas is of fossil origin (IPCC AR6 WG1
+    Table 7.15 gives the fossil value for it; common practice).
+    """
+    key = "-".join(text.strip().lower().replace("_", " ").replace("-", " ").split())
+    key = re.sub(r"^(ar\d)(?=[a-z])", r"\1-", key).replace("nonfossil", "non-fossil")
+    key = GWP_ALIASES.get(key, key)
+    if key not in book.gwp_sets():
+        raise EstimateError("gwp", f"{text!r} is not allowed; allowed (any case): {gwp_help(book)}")
+    return key
+
+
+def gwp_help(book: FactorBook) -> str:
+    """The GWP set names for --help and messages, as the IPCC writes them."""
+    return "AR4, AR5, AR5-feedback, AR6 (= AR6-fossil), AR6-fossil, AR6-non-fossil"
 
 
 def co2e(methane_kg: float, book: FactorBook, gwp_set: str) -> dict[int, float]:
     """CO2-equivalent of a methane mass for both horizons of a GWP set: {100: ..., 20: ...}."""
     found = {h: c.value for (s, h), c in book.gwp.items() if s == gwp_set}
     if not found:
-        raise EstimateError("gwp", f"{gwp_set!r} is not allowed; allowed: {', '.join(book.gwp_sets())}")
+        found = {h: c.value for (s, h), c in book.gwp.items() if s == gwp_set_name(gwp_set, book)}
     return {h: methane_kg * v for h, v in sorted(found.items(), reverse=True)}
 
 
@@ -206,12 +306,13 @@ def inventory_estimate(counts: dict[tuple[ComponentType, Service], int], book: F
         raise EstimateError("region", "allowed: eastern, western")
     total_scf, rows, missing = 0.0, [], []
     for (ctype, service), count in sorted(counts.items()):
-        w_component = book.classes[ctype][1]
         w_service = W_SERVICE.get(service)
         factor = None
-        if w_service:
+        for w_component in book.classes[ctype][1] if w_service else ():
             factor = book.find("population", w_component, w_service, region if w_service == "gas" else "any",
                                factor_set="w-1a")
+            if factor:
+                break
         if factor is None:
             missing.append(f"{count} x {ctype.value} in {service.value} service")
             continue

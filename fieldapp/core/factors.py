@@ -1,6 +1,10 @@
 """Factor tables as typed data: average, screening-range, population and leaker factors, correlation
 equations, component classes, constants and GWP values, each with its citation and status.
 
+Each factor set declares the industry segments it serves (factor-sets.csv; a user file names them in
+a ``segments`` column), and the leaker order is kept per segment (leaker-order.csv): an estimate
+never takes another segment's table without saying so.
+
 ``build_book`` takes the rows of the data files (plain dicts, read by fieldapp.catalog) and returns a
 ``FactorBook`` or the problems found, each naming the file, line and column.
 """
@@ -11,12 +15,13 @@ import math
 from collections.abc import Iterable, Mapping
 from dataclasses import dataclass, field
 
-from fieldapp.core.enums import ComponentType, Service
+from fieldapp.core.enums import ComponentType, IndustrySegment, Service, SiteKind
 from fieldapp.core.fields import FieldProblem
 
 STATUSES = ("text", "memory", "summary", "company", "computed")
 KINDS = {"average": ("equipment_class", "service"), "screening_range": ("equipment_class", "service", "screening"),
-         "population": ("component", "service", "region"), "leaker": ("component", "service", "method")}
+         "population": ("component", "service", "region"),
+         "leaker": ("component", "service", "method", "equipment_group")}
 BASES = {"kg TOC/h": "toc_mass", "kg CH4/h": "methane_mass", "scf whole gas/h": "whole_gas_volume"}
 EPA_SERVICE = {Service.GAS: "gas", Service.LIGHT_LIQUID: "light_oil", Service.HEAVY_LIQUID: "heavy_oil",
                Service.WATER_OIL: "water_oil"}
@@ -73,17 +78,55 @@ class Cited:
     label: str = ""
 
 
+@dataclass(frozen=True, slots=True)
+class Segment:
+    """An industry segment of 40 CFR 98.230(a), and the site kinds it is the default for."""
+
+    id: IndustrySegment
+    paragraph: str
+    label: str
+    site_kinds: tuple[SiteKind, ...]
+    citation: str
+    status: str
+
+    def describe(self) -> str:
+        """'onshore petroleum and natural gas production (40 CFR 98.230(a)(2))'."""
+        return f"{self.label} (40 CFR {self.paragraph})" if self.paragraph else self.label
+
+
+@dataclass(frozen=True, slots=True)
+class FactorSet:
+    """What one factor table declares about itself: the segments it serves, its name and citation."""
+
+    name: str
+    segments: tuple[IndustrySegment, ...]
+    label: str
+    citation: str
+    status: str
+    note: str = ""
+
+
+@dataclass(frozen=True, slots=True)
+class OrderEntry:
+    """One place in a segment's leaker order, with why that table is used there."""
+
+    factor_set: str
+    reason: str
+
+
 @dataclass(frozen=True)
 class FactorBook:
     """Every factor the estimates use."""
 
     factors: Mapping[tuple, Factor]
     correlations: Mapping[str, Correlation]
-    classes: Mapping[ComponentType, tuple[str, str]]
-    leaker_order: tuple[str, ...]
+    classes: Mapping[ComponentType, tuple[str, tuple[str, ...]]]
+    leaker_order: Mapping[IndustrySegment, tuple[OrderEntry, ...]]
     constants: Mapping[str, Cited]
     gwp: Mapping[tuple[str, int], Cited]
     sets: Mapping[str, str] = field(default_factory=dict)
+    set_info: Mapping[str, FactorSet] = field(default_factory=dict)
+    segments: Mapping[IndustrySegment, Segment] = field(default_factory=dict)
 
     def find(self, kind: str, *key: str, factor_set: str | None = None) -> Factor | None:
         """The factor of a kind and key, from one set or the first set that has it."""
@@ -92,6 +135,18 @@ class FactorBook:
         for (_fs, k, *rest), factor in self.factors.items():
             if k == kind and tuple(rest) == key:
                 return factor
+        return None
+
+    def serves(self, factor_set: str, segment: IndustrySegment) -> bool:
+        """True when a factor set declares that it serves a segment."""
+        info = self.set_info.get(factor_set)
+        return info is not None and segment in info.segments
+
+    def default_segment(self, kind: SiteKind) -> IndustrySegment | None:
+        """The segment a site kind defaults to, when the kind is unambiguous (else None)."""
+        for seg in self.segments.values():
+            if kind in seg.site_kinds:
+                return seg.id
         return None
 
     def gwp_sets(self) -> list[str]:
@@ -141,8 +196,11 @@ def build_book(files: Mapping[str, Iterable[Mapping[str, str]]]) -> tuple[Factor
     r = _Rows()
     factors: dict[tuple, Factor] = {}
     correlations: dict[str, Correlation] = {}
-    classes: dict[ComponentType, tuple[str, str]] = {}
-    order: list[tuple[int, str]] = []
+    classes: dict[ComponentType, tuple[str, tuple[str, ...]]] = {}
+    order: list[tuple[str, int, str, str, int]] = []
+    set_info: dict[str, FactorSet] = {}
+    user_segments: dict[str, set[IndustrySegment]] = {}
+    segments: dict[IndustrySegment, Segment] = {}
     constants: dict[str, Cited] = {}
     gwp: dict[tuple[str, int], Cited] = {}
     sets: dict[str, str] = {}
@@ -150,11 +208,21 @@ def build_book(files: Mapping[str, Iterable[Mapping[str, str]]]) -> tuple[Factor
         for line, row in enumerate(rows, start=2):
             if name == "component-classes.csv":
                 try:
-                    classes[ComponentType(row["component_type"])] = (row["epa_class"], row["subpart_w_component"])
+                    classes[ComponentType(row["component_type"])] = (
+                        row["epa_class"], tuple(c.strip() for c in row["subpart_w_component"].split(";") if c.strip()))
                 except (KeyError, ValueError):
                     r.problems.append(FieldProblem(f"{name}: component_type", "unknown component type", line))
             elif name == "leaker-order.csv":
-                order.append((int(r.num(row, "rank", name, line) or 0), row["factor_set"]))
+                r.cited(row, name, line)
+                order.append((row.get("segment", ""), int(r.num(row, "rank", name, line) or 0),
+                              (row.get("factor_set") or "").strip(), (row.get("note") or "").strip(), line))
+            elif name == "segments.csv":
+                _segment_row(r, name, line, row, segments)
+            elif name == "factor-sets.csv":
+                citation, status, _v = r.cited(row, name, line)
+                segs = _segment_list(r, name, line, row.get("segments"))
+                set_info[row["factor_set"]] = FactorSet(row["factor_set"], tuple(segs), row.get("label", ""),
+                                                        citation, status, (row.get("note") or "").strip())
             elif name == "constants.csv":
                 value = r.num(row, "value", name, line)
                 citation, status, _v = r.cited(row, name, line)
@@ -174,11 +242,65 @@ def build_book(files: Mapping[str, Iterable[Mapping[str, str]]]) -> tuple[Factor
                                                                        status, verified)
             else:
                 _factor_row(r, name, line, row, factors, sets)
+                if name.startswith("user:"):
+                    user_segments.setdefault(row.get("factor_set", ""), set()).update(
+                        _segment_list(r, name, line, row.get("segments")))
+    for fs, segs in user_segments.items():
+        set_info[fs] = FactorSet(fs, tuple(sorted(segs)), f"user factor set {fs}", "user factor file", "company")
+    for fs in sets:
+        if fs not in set_info:
+            r.problems.append(FieldProblem("factor-sets.csv: factor_set", f"{fs!r} has factor rows but declares no "
+                                           "segments", 0))
+    leaker_order = _leaker_order(r, order, set_info, [s for s, origin in sets.items() if origin == "user"])
     if r.problems:
         return None, r.problems
-    user_sets = [s for s, origin in sets.items() if origin == "user"]
-    leaker_order = tuple([*user_sets, *(s for _rank, s in sorted(order))])
-    return FactorBook(factors, correlations, classes, leaker_order, constants, gwp, sets), []
+    return FactorBook(factors, correlations, classes, leaker_order, constants, gwp, sets, set_info, segments), []
+
+
+def _segment_list(r: _Rows, name: str, line: int, text: str | None) -> list[IndustrySegment]:
+    out = []
+    for part in (text or "").split(";"):
+        part = part.strip()
+        if not part:
+            continue
+        try:
+            out.append(IndustrySegment(part))
+        except ValueError:
+            r.problems.append(FieldProblem(f"{name}: segments", f"{part!r} is not allowed; allowed (separated by "
+                                           f"';'): {', '.join(IndustrySegment)}", line))
+    return out
+
+
+def _segment_row(r: _Rows, name: str, line: int, row: Mapping[str, str], out: dict) -> None:
+    citation, status, _v = r.cited(row, name, line)
+    try:
+        seg = IndustrySegment(row["segment"])
+        kinds = tuple(SiteKind(k.strip()) for k in (row.get("site_kinds") or "").split(";") if k.strip())
+    except (KeyError, ValueError) as exc:
+        r.problems.append(FieldProblem(f"{name}: segment", str(exc), line))
+        return
+    out[seg] = Segment(seg, (row.get("paragraph") or "").strip(), row.get("label", ""), kinds, citation, status)
+
+
+def _leaker_order(r: _Rows, order: list, set_info: Mapping[str, FactorSet], user_sets: list[str]) -> dict:
+    """Per segment: user sets that serve it first, then the shipped order; an entry must serve its segment."""
+    out: dict[IndustrySegment, list[OrderEntry]] = {}
+    for seg in IndustrySegment:
+        out[seg] = [OrderEntry(s, f"user factor set {s} declares this segment") for s in user_sets
+                    if seg in set_info[s].segments]
+    for seg_text, _rank, fs, note, line in sorted(order, key=lambda o: (o[0], o[1])):
+        try:
+            seg = IndustrySegment(seg_text)
+        except ValueError:
+            r.problems.append(FieldProblem("leaker-order.csv: segment", f"{seg_text!r} is not allowed; allowed: "
+                                           f"{', '.join(IndustrySegment)}", line))
+            continue
+        if fs not in set_info or seg not in set_info[fs].segments:
+            r.problems.append(FieldProblem("leaker-order.csv: factor_set", f"{fs!r} does not declare segment "
+                                           f"{seg.value} in factor-sets.csv", line))
+            continue
+        out[seg].append(OrderEntry(fs, note))
+    return {seg: tuple(entries) for seg, entries in out.items()}
 
 
 def _factor_row(r: _Rows, name: str, line: int, row: Mapping[str, str], factors: dict, sets: dict) -> None:
@@ -197,6 +319,9 @@ def _factor_row(r: _Rows, name: str, line: int, row: Mapping[str, str], factors:
     factor_set = (row.get("factor_set") or "").strip()
     if not factor_set:
         r.problems.append(FieldProblem(f"{name}: factor_set", "is required", line))
+    if name.startswith("user:") and not (row.get("segments") or "").strip():
+        r.problems.append(FieldProblem(f"{name}: segments", "is required: the industry segments this set serves, "
+                                       f"separated by ';'; allowed: {', '.join(IndustrySegment)}", line))
     key = tuple((row.get(col) or "").strip() for col in KINDS[kind])
     if value is None or basis is None or not factor_set:
         return

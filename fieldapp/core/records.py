@@ -25,6 +25,7 @@ from fieldapp.core.enums import (
     CameraCheck,
     ComponentType,
     DelayKind,
+    IndustrySegment,
     Service,
     SiteKind,
     SurveyMethod,
@@ -54,6 +55,8 @@ class Site:
     methane_weight_fraction: float | None = _spec(f.number(0, 1), doc="methane weight fraction of TOC")
     location: str = _spec(f.text(200), False, "", doc="description or 'lat,lon'")
     emergency_note: str = _spec(f.text(500), False, "", doc="site emergency contact or procedure reference")
+    segment: IndustrySegment | None = _spec(f.enum_of(IndustrySegment), False, None,
+                                            doc="industry segment, 40 CFR 98.230(a); picks the factor tables")
 
 
 @dataclass(frozen=True, slots=True)

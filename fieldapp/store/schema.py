@@ -193,6 +193,13 @@ def _v8(conn: sqlite3.Connection) -> None:
     )
 
 
+@migration(9, "industry segment of a site")
+def _v9(conn: sqlite3.Connection) -> None:
+    # NULL = not set; estimates then default it from the site kind where that is unambiguous
+    # (fieldapp.store.estimates.site_segment), so no row is rewritten outside the journal.
+    run_script(conn, "ALTER TABLE sites ADD COLUMN segment TEXT;")
+
+
 LATEST = MIGRATIONS[-1][0]
 
 

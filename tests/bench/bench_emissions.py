@@ -1,7 +1,9 @@
 """Emission totals of 100,000 leaks: plumebook's totals() against a plain loop over the same leaks.
 
-The plain loop is the obvious code (date objects, min/max per leak, one total); totals() also builds
-per-leak rows and per-site and per-type sums. Target: well under a second.
+The plain loop is the obvious code over the same leaks and the same rule (count from detection to the
+repair day, else to the as-of day, clipped to the period; one total); totals() also builds per-leak rows
+(with the days counted and why the count stopped) and per-site and per-type sums. Target: within 2x of
+the plain loop. Both run five times, interleaved; the best of each is compared (the machine is shared).
 Run: python tests/bench/bench_emissions.py [LEAKS]
 """
 
@@ -43,18 +45,20 @@ def plain_loop(leaks: list[LeakPeriod]) -> float:
 
 def main(n: int = 100_000) -> None:
     leaks = make(n)
-    t = time.perf_counter()
-    base = plain_loop(leaks)
-    base_s = time.perf_counter() - t
-    t = time.perf_counter()
-    report = totals(leaks, START, END, AS_OF, "detection")
-    ours_s = time.perf_counter() - t
+    base_s = ours_s = float("inf")
+    for _ in range(5):
+        t = time.perf_counter()
+        base = plain_loop(leaks)
+        base_s = min(base_s, time.perf_counter() - t)
+        t = time.perf_counter()
+        report = totals(leaks, START, END, AS_OF, "detection")
+        ours_s = min(ours_s, time.perf_counter() - t)
     same = abs(report.total.methane_kg - base) < 1e-6 * base
     print(f"leaks: {n}")
     print(f"plain loop (total only): {base_s:.3f} s")
     print(f"plumebook totals (rows + by site + by type + total): {ours_s:.3f} s; same total: {same}")
-    print(f"ratio plumebook/plain: {ours_s / base_s:.2f}; target: well under 1 s -> "
-          f"{'OK' if ours_s < 0.5 else 'SLOW'}")
+    ratio = ours_s / base_s
+    print(f"ratio plumebook/plain: {ratio:.2f}; target: within 2x -> {'OK' if ratio <= 2 else 'SLOW'}")
 
 
 if __name__ == "__main__":

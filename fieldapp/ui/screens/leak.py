@@ -20,6 +20,7 @@ from fieldapp.core.fields import FieldProblem, ValidationError
 from fieldapp.evidence.ingest import add_media, library
 from fieldapp.evidence.probe import probe
 from fieldapp.store import ops
+from fieldapp.store.estimates import compressor_component, site_segment, wellhead_component
 from fieldapp.ui import theme
 from fieldapp.ui.forms import Form, Spec
 from fieldapp.ui.screens.form_base import FormScreen
@@ -180,13 +181,19 @@ class LeakScreen(FormScreen):
     def live_estimate(self, values: dict) -> str:
         """The estimate the record would get, with its basis, or why there is none yet."""
         try:
+            book = catalog.factor_book()
+            segment, missing = site_segment(self.site, book)
+            component = {"component_type": values["type"], "equipment": values.get("equipment") or ""}
+            on_compressor, on_wellhead = compressor_component(component)[0], wellhead_component(component)[0]
             leak = LeakInput(
                 ComponentType(values["type"]), Service(values["service"]), self.site["methane_mole_fraction"],
                 self.site["methane_weight_fraction"], SurveyMethod(self.survey["method"]),
                 float(values["screening_ppm"]) if values.get("screening_ppm") else None, None,
                 float(values["measured_rate"]) if values.get("measured_rate") else None,
-                values.get("measured_unit") or "")
-            book = catalog.factor_book()
+                values.get("measured_unit") or "", segment=segment, compressor_component=on_compressor,
+                wellhead_component=on_wellhead)
+            if segment is None and leak.measured_rate is None:
+                return f"[b]Estimate:[/b] none ({missing})"
             result = estimate(leak, book)
             h = co2e(result.methane_kg_per_h, book, "ar5")
         except (EstimateError, ValueError, KeyError, TypeError) as exc:
