@@ -75,7 +75,8 @@ def tap(widget, fx=0.5, fy=0.5):
         parent = parent.parent
     else:
         parent = None
-    if parent is not None:  # bring it into view first, as a finger would
+    if parent is not None:  # bring it into view first, as a finger would, once the layout has settled
+        idle(2)
         parent.scroll_to(widget, padding=10, animate=False)
     idle(2)
     x, y = widget.to_window(widget.x + widget.width * fx, widget.y + widget.height * fy)

@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import hashlib
 from collections.abc import Sequence
+from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
@@ -34,13 +35,21 @@ def _parse(cls: type, values: dict[str, Any]) -> Any:
     return record
 
 
-def add_media(store: Store, leak_id: str, data: bytes, name: str = "",
-              markers: Sequence[tuple[float, float, str]] = (), actor: str = "") -> dict[str, Any]:
-    """Store one photo or clip of a leak with its markers; returns the media row."""
-    try:
-        store.get("leaks", leak_id)
-    except NotFoundError:
-        raise ValidationError([FieldProblem("leak_id", f"no leak with id {leak_id!r}")]) from None
+@dataclass(frozen=True)
+class PreparedMedia:
+    """One photo or clip checked, hashed and stored on disk (original and copies), not yet recorded."""
+
+    media: PhotoRef
+    markers: tuple[Marker, ...]
+
+
+def prepare_media(store: Store, leak_id: str, data: bytes, name: str = "",
+                  markers: Sequence[tuple[float, float, str]] = (), actor: str = "") -> PreparedMedia:
+    """Check one photo or clip, then store its original and copies; the rows are written by ``record_media``.
+
+    A crash after this leaves a complete original with no row (swept or reused by its hash), never a row
+    without its file.
+    """
     found = probe(data, name)
     if found.media_kind != "photo" and markers:
         raise ValidationError([FieldProblem("marker", "markers go on photos, not on clips")])
@@ -53,20 +62,42 @@ def add_media(store: Store, leak_id: str, data: bytes, name: str = "",
         "width": found.width, "height": found.height, "duration_s": found.duration_s,
         "added_by": actor or store.actor, "added_on_device": store.device_id, "added_at": store.now_text(),
     })
-    points = [_parse(Marker, {"id": new_id(), "media_id": media.id, "x": x, "y": y, "label": label})
-              for x, y, label in markers]
+    points = tuple(_parse(Marker, {"id": new_id(), "media_id": media.id, "x": x, "y": y, "label": label})
+                   for x, y, label in markers)
     lib = library(store)
     lib.put(data, sha)
     for kind, blob in copies.items():
         write_bytes(lib.derivative(sha, kind), blob)
+    return PreparedMedia(media, points)
+
+
+def record_media(store: Store, prepared: Sequence[PreparedMedia], actor: str = "") -> None:
+    """Write the rows of prepared media and their markers (one transaction, or the caller's)."""
     with store.transaction():
-        store.insert("media", as_plain(media), actor)
-        for point in points:
-            store.insert("markers", as_plain(point), actor)
-    row = store.get("media", media.id)
-    if points:  # drawn now, while the photo is fresh, so reports only place it
-        ensure(store, row, "marked")
-    return row
+        for item in prepared:
+            store.insert("media", as_plain(item.media), actor)
+            for point in item.markers:
+                store.insert("markers", as_plain(point), actor)
+
+
+def draw_marked(store: Store, prepared: Sequence[PreparedMedia]) -> None:
+    """Draw the marked-up copies of recorded photos that have markers (rebuildable derivatives)."""
+    for item in prepared:
+        if item.markers:
+            ensure(store, store.get("media", item.media.id), "marked")
+
+
+def add_media(store: Store, leak_id: str, data: bytes, name: str = "",
+              markers: Sequence[tuple[float, float, str]] = (), actor: str = "") -> dict[str, Any]:
+    """Store one photo or clip of a leak with its markers; returns the media row."""
+    try:
+        store.get("leaks", leak_id)
+    except NotFoundError:
+        raise ValidationError([FieldProblem("leak_id", f"no leak with id {leak_id!r}")]) from None
+    prepared = prepare_media(store, leak_id, data, name, markers, actor)
+    record_media(store, [prepared], actor)
+    draw_marked(store, [prepared])  # drawn now, while the photo is fresh, so reports only place it
+    return store.get("media", prepared.media.id)
 
 
 def add_file(store: Store, leak_id: str, path: Path | str, markers: Sequence[tuple[float, float, str]] = (),

@@ -39,7 +39,7 @@ class Form(GridLayout):
     def __init__(self, specs: Sequence[Spec], on_change: Callable[[], None] | None = None, **kwargs):
         super().__init__(cols=2, spacing=(theme.GAP * 2, theme.GAP), size_hint_y=None, **kwargs)
         self.bind(minimum_height=self.setter("height"))
-        self.specs = list(specs)
+        self.specs = sorted(specs, key=lambda spec: not spec.required)  # required fields first, order kept
         self.on_change = on_change
         self.rows_by_name: dict[str, FieldRow] = {}
         self.choice_values: dict[str, dict[str, str]] = {}
@@ -110,6 +110,16 @@ class Form(GridLayout):
                     w.text = "" if value is None else str(value)
         finally:
             self._loading = False
+
+    def missing(self) -> list[FieldProblem]:
+        """A problem for each required field left blank (checked before the record's own checks)."""
+        values = self.values()
+        return [FieldProblem(s.name, "is required") for s in self.specs
+                if s.required and s.kind != "flag" and values.get(s.name) in (None, "")]
+
+    def first_problem_row(self) -> FieldRow | None:
+        """The first field (in form order) showing a problem, or None."""
+        return next((self.rows_by_name[s.name] for s in self.specs if self.rows_by_name[s.name].problem), None)
 
     def show_problems(self, problems: Sequence[FieldProblem]) -> list[str]:
         """Show each problem under its field; returns those that belong to no field of this form."""

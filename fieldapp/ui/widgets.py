@@ -46,6 +46,7 @@ class TopBar(BoxLayout):
 
     title = StringProperty("")
     can_go_back = BooleanProperty(True)
+    show_sites = BooleanProperty(True)  # False on the sites list itself
 
 
 class FieldRow(BoxLayout):
@@ -69,6 +70,7 @@ class ListRow(Button):
 
     key = StringProperty("")
     stripe = ColorProperty(theme.LINE)
+    urgency = StringProperty("")
     on_pick = ObjectProperty(None, allownone=True)
 
     def on_release(self):

@@ -4,6 +4,7 @@ from __future__ import annotations
 
 from datetime import UTC, datetime
 
+from fieldapp.store.lookups import latest_survey_id
 from fieldapp.ui.screens.form_base import FormScreen
 from fieldapp.ui.widgets import BigButton, Para
 
@@ -50,8 +51,7 @@ class ExportScreen(FormScreen):
     def do_report(self) -> None:
         from sync.pdf_survey import write_survey_pdf
 
-        survey_id = self.app.survey_id or next(iter(r["id"] for r in self.store.rows(
-            "SELECT id FROM surveys WHERE deleted = 0 ORDER BY started_at DESC LIMIT 1")), "")
+        survey_id = self.app.survey_id or latest_survey_id(self.store)
         if not survey_id:
             self.say("No survey to report yet.", "warn")
             return

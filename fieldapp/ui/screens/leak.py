@@ -16,10 +16,11 @@ from fieldapp import catalog
 from fieldapp.atomic import write_bytes
 from fieldapp.core.enums import ComponentType, Service, SurveyMethod
 from fieldapp.core.estimate import EstimateError, LeakInput, co2e, estimate
-from fieldapp.core.fields import FieldProblem, ValidationError
-from fieldapp.evidence.ingest import add_media, library
+from fieldapp.core.fields import ValidationError
+from fieldapp.evidence.ingest import library
+from fieldapp.evidence.leak_save import PhotoIn, save_leak_with_media
 from fieldapp.evidence.probe import probe
-from fieldapp.store import ops
+from fieldapp.store.lookups import component_by_tag
 from fieldapp.ui import theme
 from fieldapp.ui.forms import Form, Spec
 from fieldapp.ui.screens.form_base import FormScreen
@@ -161,12 +162,11 @@ class LeakScreen(FormScreen):
     def form_changed(self, save: bool = True) -> None:
         values = self.form.values()
         tag = (values.get("tag") or "").strip()
-        known = self.store.rows("SELECT type, service FROM components WHERE site_id = ? AND tag = ? AND deleted = 0",
-                                (self.site["id"], tag)) if tag else []
+        known = component_by_tag(self.store, self.site["id"], tag) if tag else None
         if known:
-            self.tag_note.text = f"{tag}: in the inventory ({known[0]['type']}, {known[0]['service']})"
-            if self.form.values()["type"] != known[0]["type"]:
-                self.form.set_values({"type": known[0]["type"], "service": known[0]["service"]})
+            self.tag_note.text = f"{tag}: in the inventory ({known['type']}, {known['service']})"
+            if self.form.values()["type"] != known["type"]:
+                self.form.set_values({"type": known["type"], "service": known["service"]})
         else:
             self.tag_note.text = f"{tag}: new tag - it will be added to the inventory" if tag else ""
         hazard = values.get("hazard")
@@ -197,41 +197,34 @@ class LeakScreen(FormScreen):
 
     # -- save -----------------------------------------------------------------------------------
     def do_save(self) -> None:
+        if missing := self.form.missing():
+            self.refuse(missing)
+            return
         values = self.form.values()
         tag = (values.pop("tag") or "").strip()
-        if not tag:
-            self.form.show_problems([FieldProblem("tag", "is required")])
-            self.say("Not saved: the tag is required.", "error")
-            return
         leak_values = {k: v for k, v in values.items() if k not in ("type", "service") and v not in (None, "")}
         leak_values.update(survey_id=self.survey["id"],
                            detected_at=self.app.now_text(self.site["timezone"]))
-        known = self.store.rows("SELECT id FROM components WHERE site_id = ? AND tag = ? AND deleted = 0",
-                                (self.site["id"], tag))
+        known = component_by_tag(self.store, self.site["id"], tag)
         new_component = None
         if known:
-            leak_values["component_id"] = known[0]["id"]
+            leak_values["component_id"] = known["id"]
         else:
             new_component = {"tag": tag, "type": values.get("type"), "service": values.get("service")}
+        photos = [PhotoIn(Path(p["path"]), p["name"], tuple(p["marker"]) if p.get("marker") else None)
+                  for p in self.pending]
+        self.save_draft()  # the draft on disk holds everything until the commit below
         try:
-            leak = ops.add_leak(self.store, leak_values, new_component, actor=self.survey["operator"])
+            leak = save_leak_with_media(self.store, leak_values, new_component, photos, marker_label=tag,
+                                        actor=self.survey["operator"], draft=self.draft_key())
         except ValidationError as exc:
-            rest = self.form.show_problems(exc.problems)
-            self.say("Not saved: fix the fields marked in red." + (" " + "; ".join(rest) if rest else ""), "error")
+            self.refuse(exc.problems)
             return
-        problems = []
-        for item in self.pending:
-            data = open(item["path"], "rb").read()
-            marks = [(item["marker"][0], item["marker"][1], tag)] if item.get("marker") else []
-            try:
-                add_media(self.store, leak.id, data, item["name"], marks, actor=self.survey["operator"])
-            except ValidationError as exc:
-                problems.append(str(exc))
-                continue
-            Path(item["path"]).unlink(missing_ok=True)  # the original is now in the library
+        except OSError as exc:  # a pending photo file vanished or cannot be read
+            self.say(f"Not saved: a photo could not be read ({exc}). Take it again.", "error")
+            return
         self.drop_draft()
         self.app.leak_id = leak.id
         self.app.show("survey_run", remember=False)
-        self.app.manager.get_screen("survey_run").say(
-            f"Leak {tag} saved." + (" Photo problems: " + "; ".join(problems) if problems else ""),
-            "warn" if problems else "ok")
+        count = f" with {len(photos)} photo(s)/clip(s)" if photos else ""
+        self.app.manager.get_screen("survey_run").say(f"Leak {tag} saved{count}.", "ok")

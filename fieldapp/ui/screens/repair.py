@@ -9,6 +9,7 @@ from fieldapp.core.fields import ValidationError
 from fieldapp.core.lifecycle import deadlines, outstanding
 from fieldapp.evidence.ingest import ensure, media_for
 from fieldapp.store import ops
+from fieldapp.store.lookups import leak_action_rows
 from fieldapp.store.reads import facts_for
 from fieldapp.ui import theme
 from fieldapp.ui.forms import Form, Spec
@@ -37,9 +38,9 @@ class RepairScreen(FormScreen):
         comp = self.store.get("components", leak["component_id"])
         program = catalog.program(site["program_id"])
         facts = facts_for([{**leak, "timezone": site["timezone"]}],
-                          self.store.rows("SELECT * FROM actions WHERE leak_id = ?", (leak["id"],)))[leak["id"]]
+                          leak_action_rows(self.store, leak["id"]))[leak["id"]]
         today = self.app.today(site["timezone"])
-        self.title = f"{comp['tag']} - {facts.state.value.upper()} - {site['name']}"
+        self.title = f"{facts.state.value.upper()} - {comp['tag']} - {site['name']}"  # the state first: never cut
         body = self.ids.body
         body.clear_widgets()
         if leak["hazard"]:
@@ -92,13 +93,15 @@ class RepairScreen(FormScreen):
         self.restore_draft()
 
     def do_save(self) -> None:
+        if missing := self.form.missing():
+            self.refuse(missing)
+            return
         values = {k: v for k, v in self.form.values().items() if v is not None}
         values["leak_id"] = self.app.leak_id
         try:
             action = ops.add_action(self.store, values, actor=values.get("actor", ""))
         except ValidationError as exc:
-            rest = self.form.show_problems(exc.problems)
-            self.say("Not saved: " + ("; ".join(rest) if rest else "fix the fields marked in red."), "error")
+            self.refuse(exc.problems)
             return
         self.drop_draft()
         self.refresh()

@@ -7,6 +7,7 @@ from pathlib import Path
 from kivy.lang import Builder
 from kivy.properties import StringProperty
 
+from fieldapp.store.lookups import components_by_prefix
 from fieldapp.store.reads import list_leaks, list_surveys
 from fieldapp.ui import theme
 from fieldapp.ui.screens.base import BaseScreen
@@ -17,9 +18,7 @@ PAGE = 200
 
 def component_rows(store, site_id: str, prefix: str, limit: int = PAGE) -> list[dict]:
     """A page of components whose tag starts with ``prefix`` (index on site and tag)."""
-    rows = store.rows("SELECT id, tag, type, service, area, difficult_to_monitor, unsafe_to_monitor FROM components "
-                      "WHERE site_id = ? AND deleted = 0 AND tag >= ? AND tag < ? ORDER BY tag LIMIT ?",
-                      (site_id, prefix, prefix + "\uffff", limit))
+    rows = components_by_prefix(store, site_id, prefix, limit)
     out = []
     for r in rows:
         flags = (" - difficult to monitor" if r["difficult_to_monitor"] else "") + (

@@ -9,6 +9,7 @@ from fieldapp import catalog
 from fieldapp.core.enums import CameraCheck, SurveyMethod
 from fieldapp.core.fields import ValidationError
 from fieldapp.store import ops
+from fieldapp.store.lookups import last_survey
 from fieldapp.ui.forms import Form, Spec
 from fieldapp.ui.screens.form_base import FormScreen
 
@@ -49,23 +50,24 @@ class SurveyScreen(FormScreen):
         self.set_actions("Start survey", self.do_start)
         self.say("")
         if not self.restore_draft():
-            last = self.store.rows("SELECT * FROM surveys WHERE site_id = ? AND deleted = 0 ORDER BY started_at DESC "
-                                   "LIMIT 1", (site["id"],))
+            last = last_survey(self.store, site["id"])
             if last:  # the crew and camera rarely change between visits
-                self.form.set_values({k: last[0][k] for k in ("operator", "qualification", "camera_make",
+                self.form.set_values({k: last[k] for k in ("operator", "qualification", "camera_make",
                                                                "camera_model", "camera_serial")})
-                self.form.set_values({"areas": "; ".join(json.loads(last[0]["areas"]))})
+                self.form.set_values({"areas": "; ".join(json.loads(last["areas"]))})
             self.mark_pristine()  # prefilled, not typed: leaves no draft
 
     def do_start(self) -> None:
+        if missing := self.form.missing():
+            self.refuse(missing, "Not started")
+            return
         values = {k: v for k, v in self.form.values().items() if v is not None}
         values["site_id"] = self.app.site_id
         values["started_at"] = self.app.now_text(self.store.get("sites", self.app.site_id)["timezone"])
         try:
             survey, warnings = ops.start_survey(self.store, values, actor=values.get("operator", ""))
         except ValidationError as exc:
-            rest = self.form.show_problems(exc.problems)
-            self.say("Not started: fix the fields marked in red." + (" " + "; ".join(rest) if rest else ""), "error")
+            self.refuse(exc.problems, "Not started")
             return
         self.drop_draft()
         self.form.show_problems([])

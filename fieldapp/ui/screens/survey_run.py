@@ -8,6 +8,7 @@ from kivy.uix.togglebutton import ToggleButton
 
 from fieldapp.core.fields import ValidationError
 from fieldapp.store import ops
+from fieldapp.store.lookups import survey_leaks
 from fieldapp.ui import theme
 from fieldapp.ui.forms import Form, Spec
 from fieldapp.ui.screens.form_base import FormScreen
@@ -47,9 +48,7 @@ class SurveyRunScreen(FormScreen):
             self.area_buttons.append(b)
             grid.add_widget(b)
         body.add_widget(grid)
-        leaks = self.store.rows("SELECT c.tag, c.type, l.hazard FROM leaks l JOIN components c ON c.id = "
-                                "l.component_id WHERE l.survey_id = ? AND l.deleted = 0 ORDER BY l.detected_at",
-                                (survey["id"],))
+        leaks = survey_leaks(self.store, survey["id"])
         text = "\n".join(f"- {r['tag']} ({r['type'].replace('_', ' ')}){'  HAZARD' if r['hazard'] else ''}"
                          for r in leaks) or "No leaks recorded yet."
         body.add_widget(Para(text=f"[b]Leaks found: {len(leaks)}[/b]\n{text}"))
@@ -92,8 +91,7 @@ class SurveyRunScreen(FormScreen):
         try:
             ops.end_survey(self.store, self.app.survey_id, changes)
         except ValidationError as exc:
-            rest = self.form.show_problems(exc.problems)
-            self.say("Not ended: " + "; ".join(rest or ["fix the fields marked in red"]), "error")
+            self.refuse(exc.problems, "Not ended")
             return
         self.drop_draft()
         self.app.show("site", remember=False)
