@@ -226,3 +226,7 @@ def test_snapshot_command_writes_a_png(tmp_path, demo_store):
                              "--screenshot", str(out), "--size", "800x1280"], capture_output=True, text=True)
     assert result.returncode == 0, result.stderr[-2000:]
     assert Image.open(out).size == (800, 1280)
+    assert str(out) in result.stdout  # says where the file went
+    # quiet: Kivy's log at warning level, and no camera or clipboard on this box is not critical
+    assert "CRITICAL" not in result.stderr and "Traceback" not in result.stderr, result.stderr[-2000:]
+    assert len(result.stderr.splitlines()) <= 3, result.stderr[-2000:]
