@@ -230,3 +230,84 @@ def test_snapshot_command_writes_a_png(tmp_path, demo_store):
     # quiet: Kivy's log at warning level, and no camera or clipboard on this box is not critical
     assert "CRITICAL" not in result.stderr and "Traceback" not in result.stderr, result.stderr[-2000:]
     assert len(result.stderr.splitlines()) <= 3, result.stderr[-2000:]
+
+
+def in_view(screen, widget) -> bool:
+    """True when the whole widget lies inside the visible part of the screen's form scroll view."""
+    scroller = screen.ids.scroller
+    sx, sy = scroller.to_window(scroller.x, scroller.y)
+    wx, wy = widget.to_window(widget.x, widget.y)
+    return wy >= sy - 1 and wy + widget.height <= sy + scroller.height + 1
+
+
+def test_refused_save_scrolls_to_and_marks_the_first_problem_field(make_app):
+    app = make_app()
+    app.leak_id = app.store.rows("SELECT l.id FROM leaks l JOIN components c ON c.id = l.component_id "
+                                 "WHERE c.tag = 'TD-0051'")[0]["id"]
+    app.show("repair")
+    repair = app.manager.get_screen("repair")
+    repair.ids.scroller.scroll_y = 0  # scrolled to the bottom, as after looking at the photos
+    idle(3)
+    who = repair.form.rows_by_name["actor"]
+    assert not in_view(repair, who)
+    before = len(app.store.rows("SELECT id FROM actions"))
+    tap(button(repair, "Save"))
+    idle(3)
+    assert who.problem == "is required" and "Who" in repair.ids.banner.text
+    assert in_view(repair, who)  # scrolled to it
+    assert len(app.store.rows("SELECT id FROM actions")) == before
+    names = [s.name for s in repair.form.specs]
+    assert names[:3] == ["kind", "done_on", "actor"]  # required fields first
+
+
+def test_hazard_and_due_soon_words_on_the_due_screen(make_app):
+    app = make_app()
+    app.show("due")
+    rows = app.manager.get_screen("due").ids.due_items.data
+    td51 = [r["text"] for r in rows if "TD-0051" in r["text"]]
+    assert td51 and all("HAZARD" in t for t in td51)  # the demo's H2S leak (demo_site scenario)
+    repeat = [r["text"] for r in rows if "REPEAT LEAKER" in r["text"]]
+    assert repeat and all("[b]" in t for t in td51 + repeat)  # both flags in the same strong style
+    assert any("OVERDUE[/b][/color] since" in r["text"] for r in rows)
+    assert any("DUE SOON" in r["text"] for r in rows)
+    import re
+    from datetime import date
+
+    app.show("start")
+    start = app.manager.get_screen("start").ids.sites.data
+    today = app.today()
+    for r in start:  # a window that closed reads as overdue since a date, never "by" a past date
+        for by in re.findall(r"by (\d{4}-\d\d-\d\d)", r["text"]):
+            assert date.fromisoformat(by) >= today, r["text"]
+    assert any(re.search(r"AVO survey .*OVERDUE.* since \d{4}-\d\d-\d\d \(\d+ days\)", r["text"]) for r in start)
+    assert any(r["urgency"] == "due_soon" and "DUE SOON" in r["text"] for r in start)
+
+
+def test_three_photos_with_a_count_saved_together(make_app):
+    from kivy.uix.image import Image as KivyImage
+
+    app = make_app()
+    app.site_id = site_id(app, "Orrel Mesa Pad 2")
+    app.survey_id = app.store.rows("SELECT id FROM surveys WHERE site_id = ? ORDER BY started_at DESC",
+                                   (app.site_id,))[0]["id"]
+    app.show("leak")
+    leak_screen = app.manager.get_screen("leak")
+    type_into(leak_screen.form, "tag", "OM2-THREE")
+    for _ in range(3):
+        tap(button(leak_screen, "Photo: fake camera"))
+    assert len(leak_screen.viewer.slides) == 3 and "Photo 3 of 3" in leak_screen.viewer.count.text
+    tap(leak_screen.photo, 0.5, 0.5)
+    assert leak_screen.pending[2]["marker"]
+    tap(button(leak_screen, "< Previous photo"))
+    assert "Photo 2 of 3" in leak_screen.viewer.count.text
+    tap(button(leak_screen, "Save leak"))
+    assert app.manager.current == "survey_run"
+    leak = app.store.rows("SELECT l.id FROM leaks l JOIN components c ON c.id = l.component_id "
+                          "WHERE c.tag = 'OM2-THREE'")[0]["id"]
+    assert len(app.store.rows("SELECT id FROM media WHERE leak_id = ?", (leak,))) == 3
+    app.leak_id = leak
+    app.show("repair")
+    viewer = app.manager.get_screen("repair").viewer
+    assert len(viewer.slides) == 3 and all(isinstance(s, KivyImage) for s in viewer.slides)
+    assert "Photo 1 of 3" in viewer.count.text
+    assert viewer.carousel.height >= 0.7 * viewer.width * 0.75  # large: most of the width

@@ -141,7 +141,9 @@ def ensure(store: Store, media: dict[str, Any], kind: str) -> Path:
         if markers is None:
             markers = store.rows("SELECT x, y, label FROM markers WHERE media_id = ? AND deleted = 0 ORDER BY rowid",
                                  (media["id"],))
-        key = hashlib.sha256(repr([(m["x"], m["y"], m["label"]) for m in markers]).encode()).hexdigest()[:12]
+        # "label-2": copies drawn since the marker label was enlarged get a new name, so old ones are redrawn
+        drawn = "label-2" + repr([(m["x"], m["y"], m["label"]) for m in markers])
+        key = hashlib.sha256(drawn.encode()).hexdigest()[:12]
         path = lib.derivative(sha, f"marked-{key}")
         if not path.exists():
             report = ensure(store, media, "report").read_bytes()

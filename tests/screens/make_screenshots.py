@@ -1,4 +1,5 @@
-"""Screenshots of every screen of the tablet app at 1280x800 (landscape) and 800x1280 (portrait).
+"""Screenshots of every screen of the tablet app at 1280x800 (landscape), 800x1280 (portrait) and
+1920x1200 (a large rugged tablet).
 
 Run: python tests/screens/make_screenshots.py [OUT_DIR] [--db DEMO.db]
 Loads the demo into a fresh store (unless --db is given) and renders each screen offscreen with
@@ -15,7 +16,7 @@ import tempfile
 from pathlib import Path
 
 SCREENS = ("start", "site", "survey", "survey_run", "leak", "repair", "due", "export")
-SIZES = ("1280x800", "800x1280")
+SIZES = ("1280x800", "800x1280", "1920x1200")
 
 
 def main() -> None:
@@ -37,7 +38,6 @@ def main() -> None:
             out = args.out / f"{screen}-{size}.png"
             subprocess.run([*cmd, "app", "--screen", screen, "--screenshot", str(out), "--size", size], env=env,
                            check=True)
-            print(out)
 
 
 if __name__ == "__main__":

@@ -7,6 +7,7 @@ from __future__ import annotations
 import hashlib
 from pathlib import Path
 
+from kivy.clock import Clock
 from kivy.graphics import Color, Line
 from kivy.properties import ListProperty
 from kivy.uix.boxlayout import BoxLayout
@@ -23,6 +24,7 @@ from fieldapp.evidence.probe import probe
 from fieldapp.store.lookups import component_by_tag
 from fieldapp.ui import theme
 from fieldapp.ui.forms import Form, Spec
+from fieldapp.ui.photo_viewer import PhotoViewer
 from fieldapp.ui.screens.form_base import FormScreen
 from fieldapp.ui.widgets import Banner, Para, QuietButton
 
@@ -112,16 +114,17 @@ class LeakScreen(FormScreen):
             button.bind(on_release=lambda _b, s=source: s.take(self.got_photo))
             sources.add_widget(button)
         body.add_widget(sources)
-        self.photo_note = Para(text="No photo yet. Take or import one, then tap the leak on it.", color=theme.MUTED)
+        self.photo_note = Para(text="No photo yet. Take or import one, then tap the leak on it.", color=theme.INK)
         body.add_widget(self.photo_note)
-        self.photo = MarkImage(on_mark=self.marked, size_hint_y=None, height=0)
-        body.add_widget(self.photo)
+        self.viewer = PhotoViewer()
+        body.add_widget(self.viewer)
         self.set_actions("Save leak", self.do_save)
         self.say("")
         draft = self.restore_draft()
         if draft:
             for item in draft.get("pending", []):
-                self._show_pending(item)
+                if Path(item["path"]).exists():  # a photo file removed by hand is not shown as pending
+                    self._show_pending(item, scroll=False)
         self.form_changed(save=False)
 
     # -- photos ---------------------------------------------------------------------------------
@@ -141,21 +144,34 @@ class LeakScreen(FormScreen):
         self._show_pending(item)
         self.changed()
 
-    def _show_pending(self, item: dict) -> None:
+    def _show_pending(self, item: dict, scroll: bool = True) -> None:
         if item not in self.pending:
             self.pending.append(item)
         if item["kind"] == "photo":
-            self.photo.source = item["path"]
-            self.photo.height = theme.TOUCH * 6
-            self.photo.marker = item.get("marker") or []
-        self.photo_note.text = (f"{len(self.pending)} photo(s)/clip(s) ready. Tap the photo where the leak is."
-                                if not self.photo.marker else "Leak marked on the photo. Tap again to move it.")
+            image = MarkImage(on_mark=lambda marker, it=item: self.marked(it, marker), source=item["path"])
+            image.marker = item.get("marker") or []
+            self.viewer.add(image)
+        self._note()
+        if scroll:  # the hint and the photo in view, so the leak can be tapped at once
+            Clock.schedule_once(lambda *_: self.scroll_to_field(self.photo_note), 0.05)
 
-    def marked(self, marker: list[float]) -> None:
+    @property
+    def photo(self):
+        """The photo on show (a MarkImage), or None."""
+        slides = self.viewer.slides
+        return slides[self.viewer.index] if slides else None
+
+    def _note(self) -> None:
         photos = [p for p in self.pending if p["kind"] == "photo"]
-        if photos:
-            photos[-1]["marker"] = list(marker)
-        self.photo_note.text = "Leak marked on the photo. Tap again to move it."
+        clips = len(self.pending) - len(photos)
+        unmarked = sum(1 for p in photos if not p.get("marker"))
+        what = f"{len(photos)} photo(s)" + (f" and {clips} clip(s)" if clips else "") + " ready."
+        self.photo_note.text = (f"[b]{what}[/b] " + (f"Tap the leak on each photo ({unmarked} not marked yet)."
+                                                     if unmarked else "Leak marked on every photo; tap to move it."))
+
+    def marked(self, item: dict, marker: list[float]) -> None:
+        item["marker"] = list(marker)
+        self._note()
         self.changed()
 
     # -- live feedback --------------------------------------------------------------------------
