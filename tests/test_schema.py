@@ -54,3 +54,18 @@ def test_actions_and_journal_are_append_only(demo_store):
                 "DELETE FROM actions"):
         with pytest.raises(sqlite3.DatabaseError, match="append-only"):
             demo_store.conn.execute(sql)
+
+
+def test_version_7_file_upgrades_to_keep_survey_conditions_as_typed(tmp_path):
+    path = tmp_path / "v7.db"
+    conn = sqlite3.connect(path, isolation_level=None)
+    schema.migrate(conn, target=7)
+    conn.execute("INSERT INTO sites (id, name, kind, program_id, timezone, methane_mole_fraction) "
+                 "VALUES ('s1', 'Old pad', 'well_site', 'us-nsps-oooo-a', 'America/Denver', 0.8)")
+    conn.execute("INSERT INTO surveys (id, site_id, method, started_at, operator, ambient_temp_c, wind_max_m_s) "
+                 "VALUES ('v1', 's1', 'ogi', '2026-11-30T08:00:00-07:00', 'T', 4.5, 3.0)")
+    conn.close()
+    store = Store(path)
+    row = store.get("surveys", "v1")
+    assert (row["ambient_temp_entered"], row["temp_unit"], row["wind_max_entered"], row["wind_unit"]) == (
+        4.5, "°C", 3.0, "m/s")

@@ -311,3 +311,33 @@ def test_three_photos_with_a_count_saved_together(make_app):
     assert len(viewer.slides) == 3 and all(isinstance(s, KivyImage) for s in viewer.slides)
     assert "Photo 1 of 3" in viewer.count.text
     assert viewer.carousel.height >= 0.7 * viewer.width * 0.75  # large: most of the width
+
+
+def test_unit_preference_changes_what_is_shown_and_stored(make_app):
+    from fieldapp.store.prefs import unit_system
+
+    app = make_app()
+    app.site_id = site_id(app, "Orrel Mesa Pad 2")
+    app.show("survey")
+    screen = app.manager.get_screen("survey")
+    assert screen.form.rows_by_name["ambient_temp_c"].label == "Ambient temperature (°C)"
+    screen.units_choice.text = "°F and mph"  # what picking it from the list does
+    idle(2)
+    assert unit_system(app.store).key == "us"
+    assert screen.form.rows_by_name["ambient_temp_c"].label == "Ambient temperature (°F)"
+    assert screen.form.rows_by_name["wind_max_m_s"].label == "Maximum wind (mph)"
+    fill_survey(screen.form)
+    type_into(screen.form, "ambient_temp_c", "41")
+    type_into(screen.form, "wind_speed_m_s", "5")
+    type_into(screen.form, "wind_max_m_s", "10")
+    tap(button(screen, "Start survey"))
+    assert app.manager.current == "survey_run"
+    survey = app.store.get("surveys", app.survey_id)
+    # 41 °F = 5 °C; 10 mph = 4.4704 m/s (NIST SP 811 B.8/B.9, exact definitions)
+    assert survey["ambient_temp_c"] == pytest.approx(5.0) and survey["wind_max_m_s"] == pytest.approx(4.4704)
+    assert (survey["ambient_temp_entered"], survey["temp_unit"]) == (41.0, "°F")
+    assert (survey["wind_max_entered"], survey["wind_unit"]) == (10.0, "mph")
+    run = app.manager.get_screen("survey_run")
+    assert any("41.0 °F" in getattr(w, "text", "") for w in run.walk())  # shown in the crew's units
+    app.show("survey")  # a new form opens in °F again: the preference is the store's
+    assert app.manager.get_screen("survey").form.rows_by_name["ambient_temp_c"].label.endswith("(°F)")

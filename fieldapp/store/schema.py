@@ -176,6 +176,22 @@ def _v7(conn: sqlite3.Connection) -> None:
     run_script(conn, "CREATE INDEX journal_batch ON journal(row_id) WHERE op = 'insert_batch';")
 
 
+@migration(11, "survey conditions as entered, with their units")
+def _v11(conn: sqlite3.Connection) -> None:
+    # the canonical columns (ambient_temp_c, wind_*_m_s) stay what every rule and report reads; these
+    # keep what the crew typed and in which unit (fieldapp/core/weather_units.py)
+    run_script(conn, """
+        ALTER TABLE surveys ADD COLUMN ambient_temp_entered REAL;
+        ALTER TABLE surveys ADD COLUMN temp_unit TEXT NOT NULL DEFAULT '';
+        ALTER TABLE surveys ADD COLUMN wind_speed_entered REAL;
+        ALTER TABLE surveys ADD COLUMN wind_max_entered REAL;
+        ALTER TABLE surveys ADD COLUMN wind_unit TEXT NOT NULL DEFAULT '';
+        UPDATE surveys SET temp_unit = '°C', ambient_temp_entered = ambient_temp_c WHERE ambient_temp_c IS NOT NULL;
+        UPDATE surveys SET wind_unit = 'm/s', wind_speed_entered = wind_speed_m_s, wind_max_entered = wind_max_m_s
+            WHERE wind_speed_m_s IS NOT NULL OR wind_max_m_s IS NOT NULL;
+    """)
+
+
 LATEST = MIGRATIONS[-1][0]
 
 

@@ -8,13 +8,12 @@ from dataclasses import dataclass
 from typing import Any
 
 from kivy.uix.gridlayout import GridLayout
-from kivy.uix.spinner import Spinner
 from kivy.uix.textinput import TextInput
 from kivy.uix.togglebutton import ToggleButton
 
 from fieldapp.core.fields import FieldProblem
 from fieldapp.ui import theme
-from fieldapp.ui.widgets import FieldRow
+from fieldapp.ui.widgets import Choice, FieldRow
 
 
 @dataclass(frozen=True)
@@ -52,11 +51,9 @@ class Form(GridLayout):
 
     def _input(self, spec: Spec):
         if spec.kind == "choice":
-            labels = [label(c) for c in spec.choices]
-            self.choice_values[spec.name] = dict(zip(labels, spec.choices, strict=True))
-            w = Spinner(text=labels[0] if spec.required and labels else "", values=labels,
-                        font_size=theme.FONT, background_normal="", background_color=(0.86, 0.88, 0.9, 1),
-                        color=theme.INK, option_cls="ChoiceOption")
+            labels = [label(c) or Choice.EMPTY for c in spec.choices]
+            self.choice_values[spec.name] = {**dict(zip(labels, spec.choices, strict=True)), Choice.EMPTY: ""}
+            w = Choice(text=labels[0] if spec.required and labels else Choice.EMPTY, values=labels)
             w.bind(text=lambda *_: self._changed())
             return w
         if spec.kind == "flag":
@@ -105,7 +102,7 @@ class Form(GridLayout):
                 if spec.kind == "flag":
                     w.state = "down" if value else "normal"
                 elif spec.kind == "choice":
-                    w.text = label(value) if value else ""
+                    w.text = label(value) if value else Choice.EMPTY
                 else:
                     w.text = "" if value is None else str(value)
         finally:

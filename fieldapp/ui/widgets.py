@@ -10,6 +10,7 @@ from kivy.uix.boxlayout import BoxLayout
 from kivy.uix.button import Button
 from kivy.uix.label import Label
 from kivy.uix.recycleview import RecycleView
+from kivy.uix.spinner import Spinner
 
 from fieldapp.ui import theme
 
@@ -63,6 +64,13 @@ class FieldRow(BoxLayout):
         self.widget = widget
         self.ids.holder.clear_widgets()
         self.ids.holder.add_widget(widget)
+
+
+class Choice(Spinner):
+    """A pick-list that looks like one: a bordered box with a drawn down-arrow and "tap to choose" when empty."""
+
+    EMPTY = "- tap to choose -"
+    option_cls = "ChoiceOption"
 
 
 class ListRow(Button):

@@ -7,12 +7,29 @@ from kivy.uix.gridlayout import GridLayout
 from kivy.uix.togglebutton import ToggleButton
 
 from fieldapp.core.fields import ValidationError
+from fieldapp.core.weather_units import CONDITION_FIELDS, shown
 from fieldapp.store import ops
 from fieldapp.store.lookups import survey_leaks
+from fieldapp.store.prefs import unit_system
 from fieldapp.ui import theme
 from fieldapp.ui.forms import Form, Spec
 from fieldapp.ui.screens.form_base import FormScreen
 from fieldapp.ui.widgets import BigButton, Para, QuietButton
+
+
+def conditions_text(survey: dict, system: str) -> str:
+    """The survey's conditions in a unit system, with what was typed when it was another unit."""
+    parts = []
+    for name, kind, what in (("ambient_temp_c", "temperature", "air"), ("wind_speed_m_s", "speed", "wind"),
+                             ("wind_max_m_s", "speed", "max wind")):
+        text = shown(survey.get(name), kind, system)
+        if text:
+            entered, unit_field, _kind = CONDITION_FIELDS[name]
+            typed = f"{survey.get(entered):g} {survey.get(unit_field)}" if survey.get(entered) is not None else ""
+            parts.append(f"{what} {text}" + (f" (typed {typed})" if typed and not text.endswith(
+                str(survey.get(unit_field))) else ""))
+    return "[b]Conditions:[/b] " + (", ".join(parts) or "not recorded") + (f", {survey['sky']}" if survey.get(
+        "sky") else "")
 
 
 class SurveyRunScreen(FormScreen):
@@ -34,6 +51,7 @@ class SurveyRunScreen(FormScreen):
         self.title = f"Surveying {site['name']} - {survey['method'].upper()}"
         body = self.ids.body
         body.clear_widgets()
+        body.add_widget(Para(text=conditions_text(survey, unit_system(self.store).key)))
         body.add_widget(Para(text="[b]Areas covered - tap each when done[/b]"))
         grid = GridLayout(cols=3, spacing=theme.GAP, size_hint_y=None)
         grid.bind(minimum_height=grid.setter("height"))
