@@ -341,3 +341,36 @@ def test_unit_preference_changes_what_is_shown_and_stored(make_app):
     assert any("41.0 °F" in getattr(w, "text", "") for w in run.walk())  # shown in the crew's units
     app.show("survey")  # a new form opens in °F again: the preference is the store's
     assert app.manager.get_screen("survey").form.rows_by_name["ambient_temp_c"].label.endswith("(°F)")
+
+
+def test_receive_from_office_applies_an_office_bundle(make_app, tmp_path, window):
+    from fieldapp.store import ops
+    from fieldapp.store.base import Store
+    from sync.bundle import acked_seq, make_device_bundle, make_office_bundle
+    from sync.merge import merge
+
+    app = make_app()
+    office = Store(tmp_path / "office" / "office.db", actor="office", wall=Wall())
+    merge(office, make_device_bundle(app.store, tmp_path / "day.zip").path)
+    pad = office.rows("SELECT id FROM sites WHERE name = 'Orrel Mesa Pad 2'")[0]["id"]
+    ops.add_component(office, {"site_id": pad, "tag": "OM2-OFFICE-1", "type": "flange", "service": "gas"})
+    app.show("export")
+    screen = app.manager.get_screen("export")
+    incoming = screen.inbox() / "from-office.zip"
+    make_office_bundle(office, incoming, app.store.device_id)
+    office.close()
+    assert acked_seq(app.store) == 0
+    tap(button(screen, "Receive from office"))
+    from kivy.uix.filechooser import FileChooserListView
+
+    on_top = [w for child in window.children for w in child.walk()]  # popups are children of the window
+    chooser = [w for w in on_top if isinstance(w, FileChooserListView)]
+    assert chooser and chooser[0].path == str(screen.inbox())
+    chooser[0].selection = [str(incoming)]  # what tapping the file's row does
+    popup_use = [w for w in on_top if getattr(w, "text", None) == "Use this file"][0]
+    tap(popup_use)
+    assert "Received:" in screen.out_label.text and "1 new change" in screen.out_label.text
+    assert app.store.rows("SELECT id FROM components WHERE tag = 'OM2-OFFICE-1'")
+    assert acked_seq(app.store) > 0  # the office's acknowledgement
+    texts = " ".join(getattr(w, "text", "") for w in screen.walk())
+    assert str(screen.folder()) in texts and "tablet " in texts  # destinations and a short device name

@@ -15,12 +15,12 @@ from fieldapp.ui import theme
 PATTERNS = ["*.jpg", "*.jpeg", "*.JPG", "*.JPEG", "*.png", "*.PNG", "*.tif", "*.tiff", "*.mp4", "*.MP4", "*.mov"]
 
 
-def pick_file(start: Path, done) -> None:
-    """A full-screen file chooser; calls ``done(path or None)``."""
+def pick_file(start: Path, done, patterns: list[str] | None = None, title: str = "Import a photo or clip") -> None:
+    """A full-screen file chooser (``patterns``: photos and clips unless given); calls ``done(path or None)``."""
     box = BoxLayout(orientation="vertical", spacing=theme.GAP)
-    chooser = FileChooserListView(path=str(start), filters=PATTERNS, font_size=theme.FONT)
+    chooser = FileChooserListView(path=str(start), filters=patterns or PATTERNS)
     buttons = BoxLayout(size_hint_y=None, height=theme.TOUCH, spacing=theme.GAP)
-    popup = Popup(title="Import a photo or clip", content=box, size_hint=(0.95, 0.95), title_size=theme.FONT_BIG)
+    popup = Popup(title=title, content=box, size_hint=(0.95, 0.95), title_size=theme.FONT_BIG)
     use = Button(text="Use this file", font_size=theme.FONT, background_color=theme.ACTION)
     cancel = Button(text="Cancel", font_size=theme.FONT)
 
