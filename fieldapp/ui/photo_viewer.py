@@ -38,9 +38,13 @@ class PhotoViewer(BoxLayout):
 
     def _resize(self, *_):
         # 4:3 photos at the full width, but never taller than about two thirds of a portrait screen
-        self.carousel.height = min(self.width * 0.75, theme.TOUCH * 11) if self.slides else 0
+        from kivy.core.window import Window
+
+        cap = max(theme.TOUCH * 4, Window.height * 0.55)  # the count and buttons stay in view with it
+        self.carousel.height = min(self.width * 0.75, cap) if self.slides else 0
         self.height = (self.count.height + self.carousel.height + self.buttons.height + theme.GAP
-                       if self.slides else self.count.height)
+                       if self.slides else 0)
+        self.opacity = 1 if self.slides else 0  # nothing to show: takes no room
         self.buttons.opacity = 1 if len(self.slides) > 1 else 0
         self.buttons.height = theme.TOUCH if len(self.slides) > 1 else 0
         self.buttons.disabled = len(self.slides) <= 1

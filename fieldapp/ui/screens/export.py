@@ -16,9 +16,10 @@ from fieldapp.ui.widgets import BigButton, Para, QuietButton
 
 
 def short_name(device_id: str) -> str:
-    """A tablet's short name for people: 'tablet 3F9A-21C0' from the first 8 hex digits of its id."""
+    """A tablet's short name for people: 'tablet 3F9A-21C0' from the last 8 hex digits of its id (the
+    random part of a UUIDv7; its first digits are the time it was made, shared by tablets set up together)."""
     hex_digits = device_id.replace("-", "").upper()
-    return f"tablet {hex_digits[:4]}-{hex_digits[4:8]}"
+    return f"tablet {hex_digits[-8:-4]}-{hex_digits[-4:]}"
 
 
 class ExportScreen(FormScreen):
@@ -31,10 +32,12 @@ class ExportScreen(FormScreen):
         body = self.ids.body
         body.clear_widgets()
         pending = pending_changes(self.store)
+        acked = acked_seq(self.store)
         body.add_widget(Para(text=f"[b]This tablet: {short_name(self.store.device_id)}[/b]   "
                                   f"[size=15sp](device id {self.store.device_id})[/size]\n"
-                                  f"{pending} change(s) not yet acknowledged by the office "
-                                  f"(acknowledged up to change {acked_seq(self.store)}). A bundle holds all of "
+                                  f"{pending} change(s) not yet acknowledged by the office ("
+                                  + (f"it has acknowledged this tablet's first {acked}" if acked else
+                                     "it has acknowledged none yet") + "). A bundle holds all of "
                                   "them, with their photos; making it again repeats them, nothing is skipped."))
         body.add_widget(Para(text=f"[b]Files are written to:[/b] {self.folder()}\n"
                                   f"[b]Bundles from the office are looked for in:[/b] {self.inbox()}\n"

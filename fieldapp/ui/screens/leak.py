@@ -91,23 +91,6 @@ class LeakScreen(FormScreen):
         body.clear_widgets()
         self.hazard_banner = Banner(text="", fill=theme.DANGER, shown=False)
         body.add_widget(self.hazard_banner)
-        self.form = Form([
-            Spec("tag", "Component tag (existing or new)", "text", required=True),
-            Spec("type", "Component type", "choice", tuple(t.value for t in ComponentType), True),
-            Spec("service", "Service", "choice", tuple(s.value for s in Service), True),
-            Spec("location_note", "Where on the component", "text"),
-            Spec("screening_ppm", "Screening value (ppm, Method 21)", "number"),
-            Spec("measured_rate", "Measured rate", "number"),
-            Spec("measured_unit", "Unit of the measured rate", "choice", UNITS),
-            Spec("measured_instrument", "Measuring instrument", "text"),
-            Spec("hazard", "Hazard: large, near ignition, or may carry H2S", "flag"),
-            Spec("hazard_note", "Hazard note", "text"),
-        ], on_change=self.form_changed)
-        self.tag_note = Para(text="", color=theme.MUTED)
-        body.add_widget(self.tag_note)
-        body.add_widget(self.form)
-        self.estimate_label = Para(text="")
-        body.add_widget(self.estimate_label)
         sources = BoxLayout(size_hint_y=None, height=theme.TOUCH, spacing=theme.GAP)
         for source in self.app.sources:
             button = QuietButton(text=f"Photo: {source.name}")
@@ -118,6 +101,23 @@ class LeakScreen(FormScreen):
         body.add_widget(self.photo_note)
         self.viewer = PhotoViewer()
         body.add_widget(self.viewer)
+        self.form = Form([
+            Spec("tag", "Component tag (existing or new)", "text", required=True),
+            Spec("type", "Component type", "choice", tuple(t.value for t in ComponentType), True),
+            Spec("service", "Service", "choice", tuple(s.value for s in Service), True),
+            Spec("hazard", "Hazard: large, near ignition, or may carry H2S", "flag"),
+            Spec("hazard_note", "Hazard note", "text"),
+            Spec("location_note", "Where on the component", "text"),
+            Spec("screening_ppm", "Screening value (ppm, Method 21)", "number"),
+            Spec("measured_rate", "Measured rate", "number"),
+            Spec("measured_unit", "Unit of the measured rate", "choice", UNITS),
+            Spec("measured_instrument", "Measuring instrument", "text"),
+        ], on_change=self.form_changed)
+        self.tag_note = Para(text="", color=theme.MUTED)
+        body.add_widget(self.tag_note)
+        body.add_widget(self.form)
+        self.estimate_label = Para(text="")
+        body.add_widget(self.estimate_label)
         self.set_actions("Save leak", self.do_save)
         self.say("")
         draft = self.restore_draft()

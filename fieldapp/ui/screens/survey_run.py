@@ -12,6 +12,7 @@ from fieldapp.store import ops
 from fieldapp.store.lookups import survey_leaks
 from fieldapp.store.prefs import unit_system
 from fieldapp.ui import theme
+from fieldapp.ui.due_words import coloured
 from fieldapp.ui.forms import Form, Spec
 from fieldapp.ui.screens.form_base import FormScreen
 from fieldapp.ui.widgets import BigButton, Para, QuietButton
@@ -67,7 +68,8 @@ class SurveyRunScreen(FormScreen):
             grid.add_widget(b)
         body.add_widget(grid)
         leaks = survey_leaks(self.store, survey["id"])
-        text = "\n".join(f"- {r['tag']} ({r['type'].replace('_', ' ')}){'  HAZARD' if r['hazard'] else ''}"
+        hazard = "  " + coloured("HAZARD", "overdue")
+        text = "\n".join(f"- {r['tag']} ({r['type'].replace('_', ' ')}){hazard if r['hazard'] else ''}"
                          for r in leaks) or "No leaks recorded yet."
         body.add_widget(Para(text=f"[b]Leaks found: {len(leaks)}[/b]\n{text}"))
         self.form = Form([Spec("deviations", "Deviations from the monitoring plan", "text"),
