@@ -84,3 +84,11 @@ def test_unit_preference_is_per_store(store):
 
     with pytest.raises(ValidationError, match="units"):
         set_unit_system(store, "imperial")
+
+
+def test_report_text_shows_the_canonical_value_and_what_was_typed():
+    row = {"ambient_temp_c": 10.0, "ambient_temp_entered": 50.0, "temp_unit": "°F",
+           "wind_max_m_s": 2.0, "wind_max_entered": 2.0, "wind_unit": "m/s", "wind_speed_m_s": None}
+    assert wu.report_text(row, "ambient_temp_c") == "10 °C (typed 50 °F)"
+    assert wu.report_text(row, "wind_max_m_s") == "2 m/s"
+    assert wu.report_text(row, "wind_speed_m_s") == "-"

@@ -113,3 +113,21 @@ def shown(canonical_value: float | None, kind: str, system: str) -> str:
     if kind == "temperature":
         return f"{from_celsius(canonical_value, units.temperature):.1f} {units.temperature}"
     return f"{from_m_s(canonical_value, units.speed):.1f} {units.speed}"
+
+
+def typed_text(row: dict, canonical: str) -> str:
+    """What the crew typed for a condition, e.g. '50 °F' ('' when nothing was typed or no unit is known)."""
+    entered, unit_field, _kind = CONDITION_FIELDS[canonical]
+    value, unit = row.get(entered), row.get(unit_field)
+    return f"{value:g} {unit}" if value is not None and unit else ""
+
+
+def report_text(row: dict, canonical: str) -> str:
+    """A condition for a report: the canonical value, and what was typed when it was in another unit."""
+    value = row.get(canonical)
+    if value is None:
+        return "-"
+    kind = CONDITION_FIELDS[canonical][2]
+    text = f"{value:.3g} {'°C' if kind == 'temperature' else 'm/s'}"
+    typed = typed_text(row, canonical)
+    return text + (f" (typed {typed})" if typed and not typed.endswith(("°C", "m/s")) else "")
