@@ -366,6 +366,10 @@ def test_receive_from_office_applies_an_office_bundle(make_app, tmp_path, window
     on_top = [w for child in window.children for w in child.walk()]  # popups are children of the window
     chooser = [w for w in on_top if isinstance(w, FileChooserListView)]
     assert chooser and chooser[0].path == str(screen.inbox())
+    from fieldapp.ui.audit import audit
+
+    popup_findings = [str(f) for child in window.children if child is not app.root for f in audit(child)]
+    assert not popup_findings, popup_findings  # the picker is glove-sized and legible too
     chooser[0].selection = [str(incoming)]  # what tapping the file's row does
     popup_use = [w for w in on_top if getattr(w, "text", None) == "Use this file"][0]
     tap(popup_use)

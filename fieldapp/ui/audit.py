@@ -17,7 +17,9 @@ from dataclasses import dataclass
 from kivy.metrics import dp
 from kivy.uix.button import Button
 from kivy.uix.label import Label
+from kivy.uix.modalview import ModalView
 from kivy.uix.textinput import TextInput
+from kivy.uix.treeview import TreeViewNode
 
 from fieldapp.ui import theme
 
@@ -91,6 +93,8 @@ def background(widget):
             return (1, 0.9, 0.88)
         if isinstance(w, Panel):
             return tuple(w.fill[:3])
+        if isinstance(w, ModalView) and w.background == "":
+            return tuple(w.background_color[:3])
         w = w.parent
     return tuple(theme.BG[:3])
 
@@ -146,7 +150,7 @@ def audit(root) -> list[Finding]:
         if not shown(w):
             continue
         name = f"{type(w).__name__}({(getattr(w, 'text', '') or getattr(w, 'hint_text', ''))[:40]!r})"
-        touchable = isinstance(w, Button | TextInput)
+        touchable = isinstance(w, Button | TextInput | TreeViewNode)  # TreeViewNode: file picker rows
         if touchable and min(w.width, w.height) < dp(MIN_TOUCH_DP) - 0.5:
             findings.append(Finding("touch", name, f"{w.width:.0f}x{w.height:.0f} px, under {MIN_TOUCH_DP} dp"))
         if isinstance(w, Label) and w.text.strip():

@@ -11,18 +11,30 @@ from kivy.uix.filechooser import FileChooserListView
 from kivy.uix.popup import Popup
 
 from fieldapp.ui import theme
+from fieldapp.ui.widgets import BigButton, QuietButton
 
 PATTERNS = ["*.jpg", "*.jpeg", "*.JPG", "*.JPEG", "*.png", "*.PNG", "*.tif", "*.tiff", "*.mp4", "*.MP4", "*.mov"]
+
+
+def _glove_sized(_layout, entry, *_parent) -> None:
+    """Kivy's file rows are 24 dp on a screen of density 1: make each glove-sized, in the app's type."""
+    entry.height = theme.TOUCH
+    for label in entry.walk(restrict=True):
+        if hasattr(label, "font_size") and label is not entry:
+            label.font_size = theme.FONT
 
 
 def pick_file(start: Path, done, patterns: list[str] | None = None, title: str = "Import a photo or clip") -> None:
     """A full-screen file chooser (``patterns``: photos and clips unless given); calls ``done(path or None)``."""
     box = BoxLayout(orientation="vertical", spacing=theme.GAP)
     chooser = FileChooserListView(path=str(start), filters=patterns or PATTERNS)
+    chooser.layout.bind(on_entry_added=_glove_sized)
     buttons = BoxLayout(size_hint_y=None, height=theme.TOUCH, spacing=theme.GAP)
-    popup = Popup(title=title, content=box, size_hint=(0.95, 0.95), title_size=theme.FONT_BIG)
-    use = Button(text="Use this file", font_size=theme.FONT, background_color=theme.ACTION)
-    cancel = Button(text="Cancel", font_size=theme.FONT)
+    # a plain white ground: the app's dark text reads on it in the sun (and the audit can check it)
+    popup = Popup(title=title, content=box, size_hint=(0.95, 0.95), title_size=theme.FONT_BIG, background="",
+                  background_color=theme.PANEL, title_color=theme.INK, separator_color=theme.ACTION)
+    use = BigButton(text="Use this file")
+    cancel = QuietButton(text="Cancel")
 
     def finish(path):
         popup.dismiss()
