@@ -6,7 +6,6 @@ import io
 from pathlib import Path
 
 from kivy.uix.boxlayout import BoxLayout
-from kivy.uix.button import Button
 from kivy.uix.filechooser import FileChooserListView
 from kivy.uix.popup import Popup
 
@@ -56,8 +55,9 @@ def camera_popup(done) -> None:
 
     box = BoxLayout(orientation="vertical", spacing=theme.GAP)
     cam = Camera(play=True)
-    popup = Popup(title="Take a photo", content=box, size_hint=(0.95, 0.95))
-    shoot = Button(text="Take photo", font_size=theme.FONT_BIG, size_hint_y=None, height=theme.TOUCH * 1.3)
+    popup = Popup(title="Take a photo", content=box, size_hint=(0.95, 0.95), title_size=theme.FONT_BIG,
+                  background="", background_color=theme.PANEL, title_color=theme.INK, separator_color=theme.ACTION)
+    shoot = BigButton(text="Take photo", font_size=theme.FONT_BIG, height=theme.TOUCH * 1.3)
 
     def capture(*_):
         texture = cam.texture
