@@ -378,3 +378,41 @@ def test_receive_from_office_applies_an_office_bundle(make_app, tmp_path, window
     assert acked_seq(app.store) > 0  # the office's acknowledgement
     texts = " ".join(getattr(w, "text", "") for w in screen.walk())
     assert str(screen.folder()) in texts and "tablet " in texts  # destinations and a short device name
+
+
+def test_a_crash_during_a_leak_save_keeps_the_draft_with_every_photo(make_app, window, monkeypatch):
+    import fieldapp.evidence.leak_save as leak_save
+
+    app = make_app()
+    app.site_id = site_id(app, "Orrel Mesa Pad 2")
+    survey = app.store.rows("SELECT id FROM surveys WHERE site_id = ? ORDER BY started_at DESC",
+                            (app.site_id,))[0]["id"]
+    app.survey_id = survey
+    app.show("leak")
+    leak_screen = app.manager.get_screen("leak")
+    type_into(leak_screen.form, "tag", "OM2-CRASH")
+    for _ in range(3):
+        tap(button(leak_screen, "Photo: fake camera"))
+
+    def crash(*_args, **_kw):  # the process dies between the leak row and its media rows
+        raise SystemExit("killed")
+
+    monkeypatch.setattr(leak_save, "record_media", crash)
+    with pytest.raises(SystemExit):
+        leak_screen.do_save()
+    monkeypatch.undo()
+    assert not app.store.rows("SELECT l.id FROM leaks l JOIN components c ON c.id = l.component_id "
+                              "WHERE c.tag = 'OM2-CRASH'")  # rolled back: no leak without its photos
+    app.stop()
+    for child in list(window.children):
+        window.remove_widget(child)
+    again = make_app()
+    again.site_id, again.survey_id = site_id(again, "Orrel Mesa Pad 2"), survey
+    again.show("leak")
+    restored = again.manager.get_screen("leak")
+    assert restored.form.values()["tag"] == "OM2-CRASH"
+    assert len(restored.viewer.slides) == 3 and "of 3" in restored.viewer.count.text
+    tap(button(restored, "Save leak"))
+    leak = again.store.rows("SELECT l.id FROM leaks l JOIN components c ON c.id = l.component_id "
+                            "WHERE c.tag = 'OM2-CRASH'")[0]["id"]
+    assert len(again.store.rows("SELECT id FROM media WHERE leak_id = ?", (leak,))) == 3

@@ -39,7 +39,7 @@ def flags(item: DueItem) -> str:
     """The hazard and repeat-leaker flags, as words in strong colour (hazard first)."""
     out = []
     if item.hazard:
-        out.append(coloured("HAZARD - keep clear, site procedures", "overdue"))
+        out.append(coloured("HAZARD", "overdue"))  # the full caution is on the leak's screen
     if item.repeat_leaker:
         out.append(coloured("REPEAT LEAKER", "overdue"))
     return "   ".join(out)

@@ -124,6 +124,7 @@ class LeakScreen(FormScreen):
         if draft:
             for item in draft.get("pending", []):
                 if Path(item["path"]).exists():  # a photo file removed by hand is not shown as pending
+                    self.pending.append(item)
                     self._show_pending(item, scroll=False)
         self.form_changed(save=False)
 
@@ -145,8 +146,6 @@ class LeakScreen(FormScreen):
         self.changed()
 
     def _show_pending(self, item: dict, scroll: bool = True) -> None:
-        if item not in self.pending:
-            self.pending.append(item)
         if item["kind"] == "photo":
             image = MarkImage(on_mark=lambda marker, it=item: self.marked(it, marker), source=item["path"])
             image.marker = item.get("marker") or []
