@@ -8,6 +8,7 @@ from reportlab.lib.units import mm
 from reportlab.platypus import Image, KeepTogether, PageBreak, SimpleDocTemplate, Spacer
 
 from fieldapp.atomic import write_bytes
+from fieldapp.core.weather_units import report_text
 from fieldapp.evidence.ingest import ensure
 from fieldapp.store.base import Store
 from sync.pdf_common import MARGIN, PAGE, bar_chart, fields, grid, numbered_canvas, para
@@ -94,8 +95,8 @@ def render(store: Store, report: SurveyReport) -> bytes:
         ("Operator", s["operator"]), ("Qualification", s["qualification"]),
         ("Camera", f"{s['camera_make']} {s['camera_model']} serial {s['camera_serial']}"),
         ("Daily camera check", f"{s['camera_check'].upper()}: {s['camera_check_note']}"),
-        ("Ambient temperature", "-" if s["ambient_temp_c"] is None else f"{s['ambient_temp_c']:g} °C"),
-        ("Wind (speed / max)", f"{s['wind_speed_m_s'] or '-'} / {s['wind_max_m_s'] or '-'} m/s"),
+        ("Ambient temperature", report_text(s, "ambient_temp_c")),
+        ("Wind (speed / max)", f"{report_text(s, 'wind_speed_m_s')} / {report_text(s, 'wind_max_m_s')}"),
         ("Sky", s["sky"]), ("Areas covered", "; ".join(s["areas_done"]) or "-"),
         ("Areas planned", "; ".join(s["areas"]) or "-"),
         ("Deviations from plan", s["deviations"] or ("none (stated)" if s["no_deviations"] else "not stated")),

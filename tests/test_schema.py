@@ -75,3 +75,20 @@ def test_version_7_file_upgrades_with_no_segment_and_defaults_from_an_unambiguou
     # a compressor station may be gathering and boosting or transmission: no default
     segment, note = site_segment(station)
     assert segment is None and "ambiguous" in note and "plumebook segment" in note
+
+
+def test_version_7_file_upgrades_to_keep_survey_conditions_as_typed(tmp_path):
+    path = tmp_path / "v7.db"
+    conn = sqlite3.connect(path, isolation_level=None)
+    schema.migrate(conn, target=7)
+    conn.execute("INSERT INTO sites (id, name, kind, program_id, timezone, methane_mole_fraction) "
+                 "VALUES ('s1', 'Old pad', 'well_site', 'us-nsps-oooo-a', 'America/Denver', 0.8)")
+    conn.execute("INSERT INTO surveys (id, site_id, method, started_at, operator, ambient_temp_c, wind_max_m_s) "
+                 "VALUES ('v1', 's1', 'ogi', '2026-11-30T08:00:00-07:00', 'T', 4.5, 3.0)")
+    conn.close()
+    store = Store(path)
+    row = store.get("surveys", "v1")
+    # no backfill (no row changes outside the journal): the canonical values stand, nothing "typed" is invented
+    assert (row["ambient_temp_c"], row["wind_max_m_s"]) == (4.5, 3.0)
+    assert (row["ambient_temp_entered"], row["temp_unit"], row["wind_max_entered"], row["wind_unit"]) == (
+        None, "", None, "")

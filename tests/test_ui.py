@@ -75,7 +75,8 @@ def tap(widget, fx=0.5, fy=0.5):
         parent = parent.parent
     else:
         parent = None
-    if parent is not None:  # bring it into view first, as a finger would
+    if parent is not None:  # bring it into view first, as a finger would, once the layout has settled
+        idle(2)
         parent.scroll_to(widget, padding=10, animate=False)
     idle(2)
     x, y = widget.to_window(widget.x + widget.width * fx, widget.y + widget.height * fy)
@@ -225,3 +226,195 @@ def test_snapshot_command_writes_a_png(tmp_path, demo_store):
                              "--screenshot", str(out), "--size", "800x1280"], capture_output=True, text=True)
     assert result.returncode == 0, result.stderr[-2000:]
     assert Image.open(out).size == (800, 1280)
+    assert str(out) in result.stdout  # says where the file went
+    # quiet: Kivy's log at warning level, and no camera or clipboard on this box is not critical
+    assert "CRITICAL" not in result.stderr and "Traceback" not in result.stderr, result.stderr[-2000:]
+    assert len(result.stderr.splitlines()) <= 3, result.stderr[-2000:]
+
+
+def in_view(screen, widget) -> bool:
+    """True when the whole widget lies inside the visible part of the screen's form scroll view."""
+    scroller = screen.ids.scroller
+    sx, sy = scroller.to_window(scroller.x, scroller.y)
+    wx, wy = widget.to_window(widget.x, widget.y)
+    return wy >= sy - 1 and wy + widget.height <= sy + scroller.height + 1
+
+
+def test_refused_save_scrolls_to_and_marks_the_first_problem_field(make_app):
+    app = make_app()
+    app.leak_id = app.store.rows("SELECT l.id FROM leaks l JOIN components c ON c.id = l.component_id "
+                                 "WHERE c.tag = 'TD-0051'")[0]["id"]
+    app.show("repair")
+    repair = app.manager.get_screen("repair")
+    repair.ids.scroller.scroll_y = 0  # scrolled to the bottom, as after looking at the photos
+    idle(3)
+    who = repair.form.rows_by_name["actor"]
+    assert not in_view(repair, who)
+    before = len(app.store.rows("SELECT id FROM actions"))
+    tap(button(repair, "Save"))
+    idle(3)
+    assert who.problem == "is required" and "Who" in repair.ids.banner.text
+    assert in_view(repair, who)  # scrolled to it
+    assert len(app.store.rows("SELECT id FROM actions")) == before
+    names = [s.name for s in repair.form.specs]
+    assert names[:3] == ["kind", "done_on", "actor"]  # required fields first
+
+
+def test_hazard_and_due_soon_words_on_the_due_screen(make_app):
+    app = make_app()
+    app.show("due")
+    rows = app.manager.get_screen("due").ids.due_items.data
+    td51 = [r["text"] for r in rows if "TD-0051" in r["text"]]
+    assert td51 and all("HAZARD" in t for t in td51)  # the demo's H2S leak (demo_site scenario)
+    repeat = [r["text"] for r in rows if "REPEAT LEAKER" in r["text"]]
+    assert repeat and all("[b]" in t for t in td51 + repeat)  # both flags in the same strong style
+    assert any("OVERDUE[/b][/color] since" in r["text"] for r in rows)
+    assert any("DUE SOON" in r["text"] for r in rows)
+    import re
+    from datetime import date
+
+    app.show("start")
+    start = app.manager.get_screen("start").ids.sites.data
+    today = app.today()
+    for r in start:  # a window that closed reads as overdue since a date, never "by" a past date
+        for by in re.findall(r"by (\d{4}-\d\d-\d\d)", r["text"]):
+            assert date.fromisoformat(by) >= today, r["text"]
+    # An OGI survey counts for the quarterly AVO inspection of OOOOb ("AVO, or any other detection method",
+    # 40 CFR 60.5397b(g)(1)(iii)(A) [text]), so the demo's overdue window is Brackwater's semiannual OGI.
+    assert any(re.search(r"survey .*OVERDUE.* since \d{4}-\d\d-\d\d \(\d+ days\)", r["text"]) for r in start)
+    assert any(r["urgency"] == "due_soon" and "DUE SOON" in r["text"] for r in start)
+
+
+def test_three_photos_with_a_count_saved_together(make_app):
+    from kivy.uix.image import Image as KivyImage
+
+    app = make_app()
+    app.site_id = site_id(app, "Orrel Mesa Pad 2")
+    app.survey_id = app.store.rows("SELECT id FROM surveys WHERE site_id = ? ORDER BY started_at DESC",
+                                   (app.site_id,))[0]["id"]
+    app.show("leak")
+    leak_screen = app.manager.get_screen("leak")
+    type_into(leak_screen.form, "tag", "OM2-THREE")
+    for _ in range(3):
+        tap(button(leak_screen, "Photo: fake camera"))
+    assert len(leak_screen.viewer.slides) == 3 and "Photo 3 of 3" in leak_screen.viewer.count.text
+    tap(leak_screen.photo, 0.5, 0.5)
+    assert leak_screen.pending[2]["marker"]
+    tap(button(leak_screen, "< Previous photo"))
+    assert "Photo 2 of 3" in leak_screen.viewer.count.text
+    tap(button(leak_screen, "Save leak"))
+    assert app.manager.current == "survey_run"
+    leak = app.store.rows("SELECT l.id FROM leaks l JOIN components c ON c.id = l.component_id "
+                          "WHERE c.tag = 'OM2-THREE'")[0]["id"]
+    assert len(app.store.rows("SELECT id FROM media WHERE leak_id = ?", (leak,))) == 3
+    app.leak_id = leak
+    app.show("repair")
+    viewer = app.manager.get_screen("repair").viewer
+    assert len(viewer.slides) == 3 and all(isinstance(s, KivyImage) for s in viewer.slides)
+    assert "Photo 1 of 3" in viewer.count.text
+    assert viewer.carousel.height >= 0.7 * viewer.width * 0.75  # large: most of the width
+
+
+def test_unit_preference_changes_what_is_shown_and_stored(make_app):
+    from fieldapp.store.prefs import unit_system
+
+    app = make_app()
+    app.site_id = site_id(app, "Orrel Mesa Pad 2")
+    app.show("survey")
+    screen = app.manager.get_screen("survey")
+    assert screen.form.rows_by_name["ambient_temp_c"].label == "Ambient temperature (°C)"
+    screen.units_choice.text = "°F and mph"  # what picking it from the list does
+    idle(2)
+    assert unit_system(app.store).key == "us"
+    assert screen.form.rows_by_name["ambient_temp_c"].label == "Ambient temperature (°F)"
+    assert screen.form.rows_by_name["wind_max_m_s"].label == "Maximum wind (mph)"
+    fill_survey(screen.form)
+    type_into(screen.form, "ambient_temp_c", "41")
+    type_into(screen.form, "wind_speed_m_s", "5")
+    type_into(screen.form, "wind_max_m_s", "10")
+    tap(button(screen, "Start survey"))
+    assert app.manager.current == "survey_run"
+    survey = app.store.get("surveys", app.survey_id)
+    # 41 °F = 5 °C; 10 mph = 4.4704 m/s (NIST SP 811 B.8/B.9, exact definitions)
+    assert survey["ambient_temp_c"] == pytest.approx(5.0) and survey["wind_max_m_s"] == pytest.approx(4.4704)
+    assert (survey["ambient_temp_entered"], survey["temp_unit"]) == (41.0, "°F")
+    assert (survey["wind_max_entered"], survey["wind_unit"]) == (10.0, "mph")
+    run = app.manager.get_screen("survey_run")
+    assert any("41.0 °F" in getattr(w, "text", "") for w in run.walk())  # shown in the crew's units
+    app.show("survey")  # a new form opens in °F again: the preference is the store's
+    assert app.manager.get_screen("survey").form.rows_by_name["ambient_temp_c"].label.endswith("(°F)")
+
+
+def test_receive_from_office_applies_an_office_bundle(make_app, tmp_path, window):
+    from fieldapp.store import ops
+    from fieldapp.store.base import Store
+    from sync.bundle import acked_seq, make_device_bundle, make_office_bundle
+    from sync.merge import merge
+
+    app = make_app()
+    office = Store(tmp_path / "office" / "office.db", actor="office", wall=Wall())
+    merge(office, make_device_bundle(app.store, tmp_path / "day.zip").path)
+    pad = office.rows("SELECT id FROM sites WHERE name = 'Orrel Mesa Pad 2'")[0]["id"]
+    ops.add_component(office, {"site_id": pad, "tag": "OM2-OFFICE-1", "type": "flange", "service": "gas"})
+    app.show("export")
+    screen = app.manager.get_screen("export")
+    incoming = screen.inbox() / "from-office.zip"
+    make_office_bundle(office, incoming, app.store.device_id)
+    office.close()
+    assert acked_seq(app.store) == 0
+    tap(button(screen, "Receive from office"))
+    from kivy.uix.filechooser import FileChooserListView
+
+    on_top = [w for child in window.children for w in child.walk()]  # popups are children of the window
+    chooser = [w for w in on_top if isinstance(w, FileChooserListView)]
+    assert chooser and chooser[0].path == str(screen.inbox())
+    from fieldapp.ui.audit import audit
+
+    popup_findings = [str(f) for child in window.children if child is not app.root for f in audit(child)]
+    assert not popup_findings, popup_findings  # the picker is glove-sized and legible too
+    chooser[0].selection = [str(incoming)]  # what tapping the file's row does
+    popup_use = [w for w in on_top if getattr(w, "text", None) == "Use this file"][0]
+    tap(popup_use)
+    assert "Received:" in screen.out_label.text and "1 new change" in screen.out_label.text
+    assert app.store.rows("SELECT id FROM components WHERE tag = 'OM2-OFFICE-1'")
+    assert acked_seq(app.store) > 0  # the office's acknowledgement
+    texts = " ".join(getattr(w, "text", "") for w in screen.walk())
+    assert str(screen.folder()) in texts and "tablet " in texts  # destinations and a short device name
+
+
+def test_a_crash_during_a_leak_save_keeps_the_draft_with_every_photo(make_app, window, monkeypatch):
+    import fieldapp.evidence.leak_save as leak_save
+
+    app = make_app()
+    app.site_id = site_id(app, "Orrel Mesa Pad 2")
+    survey = app.store.rows("SELECT id FROM surveys WHERE site_id = ? ORDER BY started_at DESC",
+                            (app.site_id,))[0]["id"]
+    app.survey_id = survey
+    app.show("leak")
+    leak_screen = app.manager.get_screen("leak")
+    type_into(leak_screen.form, "tag", "OM2-CRASH")
+    for _ in range(3):
+        tap(button(leak_screen, "Photo: fake camera"))
+
+    def crash(*_args, **_kw):  # the process dies between the leak row and its media rows
+        raise SystemExit("killed")
+
+    monkeypatch.setattr(leak_save, "record_media", crash)
+    with pytest.raises(SystemExit):
+        leak_screen.do_save()
+    monkeypatch.undo()
+    assert not app.store.rows("SELECT l.id FROM leaks l JOIN components c ON c.id = l.component_id "
+                              "WHERE c.tag = 'OM2-CRASH'")  # rolled back: no leak without its photos
+    app.stop()
+    for child in list(window.children):
+        window.remove_widget(child)
+    again = make_app()
+    again.site_id, again.survey_id = site_id(again, "Orrel Mesa Pad 2"), survey
+    again.show("leak")
+    restored = again.manager.get_screen("leak")
+    assert restored.form.values()["tag"] == "OM2-CRASH"
+    assert len(restored.viewer.slides) == 3 and "of 3" in restored.viewer.count.text
+    tap(button(restored, "Save leak"))
+    leak = again.store.rows("SELECT l.id FROM leaks l JOIN components c ON c.id = l.component_id "
+                            "WHERE c.tag = 'OM2-CRASH'")[0]["id"]
+    assert len(again.store.rows("SELECT id FROM media WHERE leak_id = ?", (leak,))) == 3

@@ -189,6 +189,7 @@ def register_app(sub: argparse._SubParsersAction) -> None:
     p.add_argument("--screen", default="start", help="start, site, survey, survey_run, leak, repair, due, export")
     p.add_argument("--screenshot", type=Path, help="render the screen offscreen to this PNG and exit")
     p.add_argument("--size", default="1280x800", help="window size for --screenshot, e.g. 800x1280")
+    p.add_argument("--verbose", action="store_true", help="show Kivy's full log (warnings and worse otherwise)")
     p.set_defaults(handler=cmd_app, creates_store=True)
 
 
@@ -219,6 +220,8 @@ def cmd_app(args: argparse.Namespace) -> int:
     elif not has_display():
         print("no display found: use --screenshot OUT.png to render a screen offscreen")
         return 0
+    if getattr(args, "verbose", False):
+        os.environ["PLUMEBOOK_VERBOSE"] = "1"
     from fieldapp.ui.app import run_app
 
     store = open_store(args)

@@ -13,6 +13,10 @@ from datetime import date
 from fieldapp.core.lifecycle import Deadline
 from fieldapp.core.windows import Window
 
+# How close a due date must be to be shown as "due soon": our own display choice (common practice, no
+# source) - a week gives a crew time to plan a visit; it changes no deadline.
+DUE_SOON_DAYS = 7
+
 
 @dataclass(frozen=True, slots=True)
 class DueItem:
@@ -32,6 +36,7 @@ class DueItem:
     component_type: str = ""
     repeat_leaker: bool = False
     note: str = ""
+    hazard: bool = False
 
     def days_left(self, as_of: date) -> int | None:
         """Days from ``as_of`` to the due date (negative when overdue)."""
@@ -41,6 +46,13 @@ class DueItem:
         """Past its due date on ``as_of``."""
         return self.due is not None and as_of > self.due
 
+    def urgency(self, as_of: date, soon_days: int = DUE_SOON_DAYS) -> str:
+        """'overdue', 'due_soon' (due within ``soon_days``) or 'later' (also when there is no date)."""
+        days = self.days_left(as_of)
+        if days is None:
+            return "later"
+        return "overdue" if days < 0 else ("due_soon" if days <= soon_days else "later")
+
 
 def from_window(site_id: str, site_name: str, window: Window) -> DueItem:
     """The due item of a survey window."""
@@ -49,11 +61,11 @@ def from_window(site_id: str, site_name: str, window: Window) -> DueItem:
 
 
 def from_deadline(site_id: str, site_name: str, deadline: Deadline, leak_id: str, tag: str,
-                  component_type: str, repeat_leaker: bool = False) -> DueItem:
+                  component_type: str, repeat_leaker: bool = False, hazard: bool = False) -> DueItem:
     """The due item of an outstanding leak deadline."""
     return DueItem(deadline.kind, site_id, site_name, deadline.due, deadline.rule, deadline.citation,
                    deadline.status, leak_id=leak_id, tag=tag, component_type=component_type,
-                   repeat_leaker=repeat_leaker, note=deadline.note)
+                   repeat_leaker=repeat_leaker, note=deadline.note, hazard=hazard)
 
 
 def select(items: Iterable[DueItem], as_of: date, within_days: int | None = None) -> list[DueItem]:

@@ -98,6 +98,11 @@ class Survey:
     areas_done: tuple[str, ...] = _spec(f.text_list, False, ())
     deviations: str = _spec(f.text(2000), False, "", doc="deviations from the monitoring plan")
     no_deviations: bool = _spec(f.flag, False, False, doc="statement that there were none")
+    ambient_temp_entered: float | None = _spec(f.number(-80, 150), doc="temperature as typed, in temp_unit")
+    temp_unit: str = _spec(f.text(4), False, "", doc="°C or °F: the unit the temperature was typed in")
+    wind_speed_entered: float | None = _spec(f.number(0, 200), doc="wind speed as typed, in wind_unit")
+    wind_max_entered: float | None = _spec(f.number(0, 200), doc="maximum wind as typed, in wind_unit")
+    wind_unit: str = _spec(f.text(5), False, "", doc="m/s, mph, km/h or kn: the unit the wind was typed in")
 
 
 @dataclass(frozen=True, slots=True)

@@ -73,7 +73,7 @@ def marked(report_jpeg: bytes, points: Sequence[Point]) -> bytes:
     draw = ImageDraw.Draw(img)
     w, h = img.size
     radius = max(18, min(w, h) // 14)
-    font = _font(max(18, h // 28))
+    font = _font(max(28, h // 14))  # legible on a tablet and in a printed report
     for p in points:
         cx, cy = p.x * w, p.y * h
         for width, colour in ((radius // 3 + 4, (0, 0, 0)), (radius // 3, (255, 255, 255))):

@@ -46,16 +46,23 @@ class Prepared:
 
 
 def _marked_key(markers: Sequence[Any]) -> str:
-    return hashlib.sha256(repr([(m["x"], m["y"], m["label"]) for m in markers]).encode()).hexdigest()[:12]
+    # "label-2": copies drawn since the marker label was enlarged get a new name, so old ones are redrawn
+    drawn = "label-2" + repr([(m["x"], m["y"], m["label"]) for m in markers])
+    return hashlib.sha256(drawn.encode()).hexdigest()[:12]
 
 
 def prepare_media(store: Store, leak_id: str, data: bytes, name: str = "",
-                  markers: Sequence[tuple[float, float, str]] = (), actor: str = "") -> Prepared:
-    """Check one photo or clip and make every copy in memory (the marked-up one too); writes nothing."""
-    try:
-        store.get("leaks", leak_id)
-    except NotFoundError:
-        raise ValidationError([FieldProblem("leak", f"no leak with id {leak_id!r}")]) from None
+                  markers: Sequence[tuple[float, float, str]] = (), actor: str = "",
+                  leak_exists: bool = True) -> Prepared:
+    """Check one photo or clip and make every copy in memory (the marked-up one too); writes nothing.
+
+    ``leak_exists=False`` is for a leak saved in the same transaction as its photos (leak_save).
+    """
+    if leak_exists:
+        try:
+            store.get("leaks", leak_id)
+        except NotFoundError:
+            raise ValidationError([FieldProblem("leak", f"no leak with id {leak_id!r}")]) from None
     found = probe(data, name)
     if found.media_kind != "photo" and markers:
         raise ValidationError([FieldProblem("marker", f"{Path(name).name}: markers go on photos, not on clips")])
@@ -77,11 +84,8 @@ def prepare_media(store: Store, leak_id: str, data: bytes, name: str = "",
     return Prepared(media, points, data, copies)
 
 
-def store_prepared(store: Store, items: Sequence[Prepared], actor: str = "") -> list[dict[str, Any]]:
-    """Write the originals and copies of checked files, then their rows in one transaction; all or nothing.
-
-    If anything fails, the files this call created are removed again and no row is written.
-    """
+def write_files(store: Store, items: Sequence[Prepared]) -> list[Path]:
+    """Store the originals and copies of checked files (temp, fsync, rename); returns the files created."""
     lib = library(store)
     created: list[Path] = []
     try:
@@ -96,14 +100,37 @@ def store_prepared(store: Store, items: Sequence[Prepared], actor: str = "") -> 
                 if not path.exists():
                     created.append(path)
                 write_bytes(path, blob)
-        with store.transaction():
-            for item in items:
-                store.insert("media", as_plain(item.media), actor)
-                for point in item.points:
-                    store.insert("markers", as_plain(point), actor)
     except BaseException:
-        for path in created:
-            path.unlink(missing_ok=True)
+        remove_files(created)
+        raise
+    return created
+
+
+def remove_files(paths: Sequence[Path]) -> None:
+    """Remove files this action created (after a refused or failed write)."""
+    for path in paths:
+        path.unlink(missing_ok=True)
+
+
+def record_media(store: Store, items: Sequence[Prepared], actor: str = "") -> None:
+    """Write the rows of stored media and their markers (one transaction, or the caller's)."""
+    with store.transaction():
+        for item in items:
+            store.insert("media", as_plain(item.media), actor)
+            for point in item.points:
+                store.insert("markers", as_plain(point), actor)
+
+
+def store_prepared(store: Store, items: Sequence[Prepared], actor: str = "") -> list[dict[str, Any]]:
+    """Write the originals and copies of checked files, then their rows in one transaction; all or nothing.
+
+    If anything fails, the files this call created are removed again and no row is written.
+    """
+    created = write_files(store, items)
+    try:
+        record_media(store, items, actor)
+    except BaseException:
+        remove_files(created)
         raise
     return [store.get("media", item.media.id) for item in items]
 

@@ -23,7 +23,7 @@ from fieldapp.store.reads import REPEAT_COUNT, REPEAT_MIN, local_day, make_actio
 OPEN_LEAKS = (
     "WITH open AS MATERIALIZED (SELECT l.id, l.detected_at, l.screening_ppm, l.component_id, s.id AS site_id, "
     "s.name AS site_name, s.timezone, s.program_id, c.tag, c.type AS component_type, "
-    f"{REPEAT_COUNT} AS seen_in, COALESCE(l.detection_method, v.method) AS method FROM leaks l "
+    f"{REPEAT_COUNT} AS seen_in, COALESCE(l.detection_method, v.method) AS method, l.hazard FROM leaks l "
     "JOIN components c ON c.id = l.component_id JOIN surveys v ON v.id = l.survey_id "
     "JOIN sites s ON s.id = v.site_id WHERE l.deleted = 0 AND s.deleted = 0 {site} AND NOT EXISTS "
     "(SELECT 1 FROM actions t WHERE t.leak_id = l.id AND t.kind IN ('resurvey_passed', 'voided'))) "
@@ -44,7 +44,8 @@ def leak_items(store: Store, site_id: str | None = None) -> list[due_core.DueIte
     actions: list[Action] = []
 
     def flush(row: tuple) -> None:
-        leak_id, detected_at, ppm, _comp, site, site_name, tz, program_id, tag, ctype, seen_in, method = row[:12]
+        leak_id, detected_at, ppm, _comp, site, site_name, tz, program_id, tag, ctype, seen_in, method, hazard = (
+            row[:13])
         program = programs.get(program_id)
         if program is None:
             program = programs[program_id] = (catalog.program(program_id),
@@ -52,15 +53,15 @@ def leak_items(store: Store, site_id: str | None = None) -> list[due_core.DueIte
         facts = summarize(local_day(detected_at, tz, zones), actions, ppm, SurveyMethod(method))[0]
         for deadline in outstanding(program[0], facts, program[1]):
             items.append(due_core.from_deadline(site, site_name, deadline, leak_id, tag, ctype,
-                                                seen_in >= REPEAT_MIN))
+                                                seen_in >= REPEAT_MIN, bool(hazard)))
 
     for row in cursor:
         if current is not None and row[0] != current[0]:
             flush(current)
             actions = []
         current = row
-        if row[12] is not None:
-            actions.append(make_action(row[12], row[0], *row[13:19], "", "", "", *row[19:23]))
+        if row[13] is not None:
+            actions.append(make_action(row[13], row[0], *row[14:20], "", "", "", *row[20:24]))
     if current is not None:
         flush(current)
     return items

@@ -28,6 +28,7 @@ from fieldapp.core.records import (
     parse_record,
 )
 from fieldapp.core.records import replace as replace_record
+from fieldapp.core.weather_units import UnitError, canonical_conditions
 from fieldapp.store.base import NotFoundError, Store, new_id
 from fieldapp.store.reads import action_from_row
 
@@ -102,6 +103,11 @@ def start_survey(store: Store, values: Mapping[str, Any], actor: str = "") -> tu
     """
     site = _exists(store, "sites", str(values.get("site_id", "")), "site_id")
     program = catalog.program(site["program_id"])
+    try:  # conditions typed in °F or mph are stored in °C and m/s, the typed value and unit kept beside
+        values = canonical_conditions(dict(values))
+    except UnitError as exc:
+        raise ValidationError([FieldProblem("temp_unit" if "temperature" in str(exc) else "wind_unit",
+                                            str(exc))]) from None
     problems = survey_rules.required_problems(program, values)
     survey, parse_problems = parse_record(Survey, {"id": new_id(), **values})
     problems += [p for p in parse_problems if p.field not in {q.field for q in problems}]

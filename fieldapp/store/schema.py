@@ -200,6 +200,20 @@ def _v9(conn: sqlite3.Connection) -> None:
     run_script(conn, "ALTER TABLE sites ADD COLUMN segment TEXT;")
 
 
+@migration(11, "survey conditions as entered, with their units")
+def _v11(conn: sqlite3.Connection) -> None:
+    # the canonical columns (ambient_temp_c, wind_*_m_s) stay what every rule and report reads; these
+    # keep what the crew typed and in which unit (fieldapp/core/weather_units.py). No backfill: an older
+    # survey's values were typed in the canonical units, and no row changes outside the journal.
+    run_script(conn, """
+        ALTER TABLE surveys ADD COLUMN ambient_temp_entered REAL;
+        ALTER TABLE surveys ADD COLUMN temp_unit TEXT NOT NULL DEFAULT '';
+        ALTER TABLE surveys ADD COLUMN wind_speed_entered REAL;
+        ALTER TABLE surveys ADD COLUMN wind_max_entered REAL;
+        ALTER TABLE surveys ADD COLUMN wind_unit TEXT NOT NULL DEFAULT '';
+    """)
+
+
 LATEST = MIGRATIONS[-1][0]
 
 

@@ -6,15 +6,20 @@ import os
 from datetime import UTC, date, datetime
 from pathlib import Path
 
-from kivy.app import App
-from kivy.core.window import Window
-from kivy.uix.screenmanager import NoTransition, ScreenManager, SlideTransition
+from fieldapp.ui import quiet_log
 
-from fieldapp.core.dates import local_date
-from fieldapp.store.base import Store
-from fieldapp.ui import theme
-from fieldapp.ui.camera import PhotoSource, default_sources
-from fieldapp.ui.screens import SCREENS
+quiet_log.quiet(os.environ.get("PLUMEBOOK_VERBOSE") == "1")
+quiet_log.install()
+
+from kivy.app import App  # noqa: E402  (after the log set-up)
+from kivy.core.window import Window  # noqa: E402
+from kivy.uix.screenmanager import NoTransition, ScreenManager, SlideTransition  # noqa: E402
+
+from fieldapp.core.dates import local_date  # noqa: E402
+from fieldapp.store.base import Store  # noqa: E402
+from fieldapp.ui import theme  # noqa: E402
+from fieldapp.ui.camera import PhotoSource, default_sources  # noqa: E402
+from fieldapp.ui.screens import SCREENS  # noqa: E402
 
 SCREEN_NAMES = tuple(SCREENS)
 
@@ -99,5 +104,6 @@ def run_app(db_path: Path | str, screen: str = "start", screenshot: Path | None 
         return 0
     from fieldapp.ui.snapshot import render_screen
 
-    render_screen(app, screen, Path(screenshot))
+    written = render_screen(app, screen, Path(screenshot))
+    print(f"screenshot written: {written}")
     return 0

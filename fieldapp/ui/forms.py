@@ -8,13 +8,12 @@ from dataclasses import dataclass
 from typing import Any
 
 from kivy.uix.gridlayout import GridLayout
-from kivy.uix.spinner import Spinner
 from kivy.uix.textinput import TextInput
 from kivy.uix.togglebutton import ToggleButton
 
 from fieldapp.core.fields import FieldProblem
 from fieldapp.ui import theme
-from fieldapp.ui.widgets import FieldRow
+from fieldapp.ui.widgets import Choice, FieldRow
 
 
 @dataclass(frozen=True)
@@ -39,7 +38,7 @@ class Form(GridLayout):
     def __init__(self, specs: Sequence[Spec], on_change: Callable[[], None] | None = None, **kwargs):
         super().__init__(cols=2, spacing=(theme.GAP * 2, theme.GAP), size_hint_y=None, **kwargs)
         self.bind(minimum_height=self.setter("height"))
-        self.specs = list(specs)
+        self.specs = sorted(specs, key=lambda spec: not spec.required)  # required fields first, order kept
         self.on_change = on_change
         self.rows_by_name: dict[str, FieldRow] = {}
         self.choice_values: dict[str, dict[str, str]] = {}
@@ -52,11 +51,9 @@ class Form(GridLayout):
 
     def _input(self, spec: Spec):
         if spec.kind == "choice":
-            labels = [label(c) for c in spec.choices]
-            self.choice_values[spec.name] = dict(zip(labels, spec.choices, strict=True))
-            w = Spinner(text=labels[0] if spec.required and labels else "", values=labels,
-                        font_size=theme.FONT, background_normal="", background_color=(0.86, 0.88, 0.9, 1),
-                        color=theme.INK, option_cls="ChoiceOption")
+            labels = [label(c) or Choice.EMPTY for c in spec.choices]
+            self.choice_values[spec.name] = {**dict(zip(labels, spec.choices, strict=True)), Choice.EMPTY: ""}
+            w = Choice(text=labels[0] if spec.required and labels else Choice.EMPTY, values=labels)
             w.bind(text=lambda *_: self._changed())
             return w
         if spec.kind == "flag":
@@ -105,11 +102,21 @@ class Form(GridLayout):
                 if spec.kind == "flag":
                     w.state = "down" if value else "normal"
                 elif spec.kind == "choice":
-                    w.text = label(value) if value else ""
+                    w.text = label(value) if value else Choice.EMPTY
                 else:
                     w.text = "" if value is None else str(value)
         finally:
             self._loading = False
+
+    def missing(self) -> list[FieldProblem]:
+        """A problem for each required field left blank (checked before the record's own checks)."""
+        values = self.values()
+        return [FieldProblem(s.name, "is required") for s in self.specs
+                if s.required and s.kind != "flag" and values.get(s.name) in (None, "")]
+
+    def first_problem_row(self) -> FieldRow | None:
+        """The first field (in form order) showing a problem, or None."""
+        return next((self.rows_by_name[s.name] for s in self.specs if self.rows_by_name[s.name].problem), None)
 
     def show_problems(self, problems: Sequence[FieldProblem]) -> list[str]:
         """Show each problem under its field; returns those that belong to no field of this form."""

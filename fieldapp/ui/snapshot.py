@@ -8,23 +8,15 @@ from pathlib import Path
 from kivy.base import EventLoop
 from kivy.core.window import Window
 
+from fieldapp.store.lookups import busiest_site_id, current_survey_id, most_pressing_leak_id
+
 
 def pick_records(app) -> None:
     """Point the app at the records that show each screen best (busiest site, a hazardous leak...)."""
     store = app.store
-    site = store.rows("SELECT s.id FROM sites s LEFT JOIN surveys v ON v.site_id = s.id LEFT JOIN leaks l ON "
-                      "l.survey_id = v.id WHERE s.deleted = 0 GROUP BY s.id ORDER BY COUNT(l.id) DESC LIMIT 1")
-    if site:
-        app.site_id = site[0]["id"]
-    survey = store.rows("SELECT id FROM surveys WHERE site_id = ? AND deleted = 0 ORDER BY ended_at IS NOT NULL, "
-                        "started_at DESC LIMIT 1", (app.site_id,))
-    if survey:
-        app.survey_id = survey[0]["id"]
-    leak = store.rows("SELECT l.id FROM leaks l WHERE l.deleted = 0 AND NOT EXISTS (SELECT 1 FROM actions a WHERE "
-                      "a.leak_id = l.id AND a.kind IN ('resurvey_passed', 'voided')) ORDER BY l.hazard DESC, "
-                      "l.detected_at DESC LIMIT 1")
-    if leak:
-        app.leak_id = leak[0]["id"]
+    app.site_id = busiest_site_id(store) or app.site_id
+    app.survey_id = current_survey_id(store, app.site_id) or app.survey_id
+    app.leak_id = most_pressing_leak_id(store) or app.leak_id
 
 
 def settle(frames: int = 20) -> None:

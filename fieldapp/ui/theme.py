@@ -15,10 +15,13 @@ ACTION = (0.04, 0.24, 0.52, 1)
 ACTION_TEXT = (1, 1, 1, 1)
 DANGER = (0.68, 0.06, 0.04, 1)
 WARN = (0.80, 0.40, 0.0, 1)
+SOON = (0.52, 0.27, 0.0, 1)  # "due soon": dark amber, readable as text on white (>= 4.5:1)
 OK = (0.06, 0.42, 0.16, 1)
 SELECTED = (0.80, 0.88, 1.0, 1)
 
 TOUCH = dp(60)
+TOUCH_MIN = dp(48)  # the smallest touch target allowed anywhere (gloves)
+BAR = dp(22)  # scrollbar width: grabbable with a gloved finger
 ROW = dp(72)
 GAP = dp(10)
 PAD = dp(16)
@@ -26,6 +29,9 @@ FONT = sp(20)
 FONT_BIG = sp(26)
 FONT_TITLE = sp(30)
 FONT_SMALL = sp(16)
+
+URGENCY_COLOURS = {"overdue": DANGER, "due_soon": SOON, "later": ACTION}
+URGENCY_HEX = {"overdue": "#ad0f0a", "due_soon": "#854500", "later": "#0a3d85"}
 
 STATE_COLOURS = {"open": DANGER, "attempted": WARN, "delayed": WARN, "repaired": ACTION, "closed": OK,
                  "void": MUTED}

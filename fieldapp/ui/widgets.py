@@ -10,6 +10,7 @@ from kivy.uix.boxlayout import BoxLayout
 from kivy.uix.button import Button
 from kivy.uix.label import Label
 from kivy.uix.recycleview import RecycleView
+from kivy.uix.spinner import Spinner
 
 from fieldapp.ui import theme
 
@@ -46,6 +47,7 @@ class TopBar(BoxLayout):
 
     title = StringProperty("")
     can_go_back = BooleanProperty(True)
+    show_sites = BooleanProperty(True)  # False on the sites list itself
 
 
 class FieldRow(BoxLayout):
@@ -64,11 +66,19 @@ class FieldRow(BoxLayout):
         self.ids.holder.add_widget(widget)
 
 
+class Choice(Spinner):
+    """A pick-list that looks like one: a bordered box with a drawn down-arrow and "tap to choose" when empty."""
+
+    EMPTY = "- tap to choose -"
+    option_cls = "ChoiceOption"
+
+
 class ListRow(Button):
     """One row of a RecycleView list; ``key`` says what it stands for, ``stripe`` colours its left edge."""
 
     key = StringProperty("")
     stripe = ColorProperty(theme.LINE)
+    urgency = StringProperty("")
     on_pick = ObjectProperty(None, allownone=True)
 
     def on_release(self):

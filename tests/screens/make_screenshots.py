@@ -1,4 +1,5 @@
-"""Screenshots of every screen of the tablet app at 1280x800 (landscape) and 800x1280 (portrait).
+"""Screenshots of every screen of the tablet app at 1280x800 (landscape), 800x1280 (portrait) and
+1920x1200 (a large rugged tablet).
 
 Run: python tests/screens/make_screenshots.py [OUT_DIR] [--db DEMO.db]
 Loads the demo into a fresh store (unless --db is given) and renders each screen offscreen with
@@ -15,7 +16,7 @@ import tempfile
 from pathlib import Path
 
 SCREENS = ("start", "site", "survey", "survey_run", "leak", "repair", "due", "export")
-SIZES = ("1280x800", "800x1280")
+SIZES = ("1280x800", "800x1280", "1920x1200")
 
 
 def main() -> None:
@@ -35,9 +36,11 @@ def main() -> None:
     for size in SIZES:
         for screen in SCREENS:
             out = args.out / f"{screen}-{size}.png"
-            subprocess.run([*cmd, "app", "--screen", screen, "--screenshot", str(out), "--size", size], env=env,
-                           check=True)
-            print(out)
+            # a 10-inch 1920x1200 tablet reports a pixel density of about 1.5 (Android's hdpi bucket; memory),
+            # so it is drawn at that density, not as a desktop monitor would be
+            density = {"KIVY_METRICS_DENSITY": "1.5"} if size == "1920x1200" else {}
+            subprocess.run([*cmd, "app", "--screen", screen, "--screenshot", str(out), "--size", size],
+                           env={**env, **density}, check=True)
 
 
 if __name__ == "__main__":

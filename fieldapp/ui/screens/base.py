@@ -29,5 +29,5 @@ class BaseScreen(Screen):
         if banner is None:
             return
         banner.text = text
-        banner.fill = {"ok": theme.OK, "warn": theme.WARN, "error": theme.DANGER}[kind]
+        banner.fill = {"ok": theme.OK, "warn": theme.SOON, "error": theme.DANGER}[kind]
         banner.shown = bool(text)

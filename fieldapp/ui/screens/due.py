@@ -10,6 +10,7 @@ from kivy.properties import ListProperty
 from fieldapp.store.due import due_list
 from fieldapp.store.reads import list_sites
 from fieldapp.ui import theme
+from fieldapp.ui.due_words import flags, standing
 from fieldapp.ui.screens.base import BaseScreen
 
 Builder.load_file(str(Path(__file__).with_name("due_screen.kv")))
@@ -39,18 +40,20 @@ class DueScreen(BaseScreen):
             items = [i for i in items if i.kind == self.ids.kind_filter.text]
         rows = []
         for i in items:
-            late = i.overdue(today)
-            days = i.days_left(today)
-            when = f"OVERDUE {-days} day(s)" if late else (f"due in {days} day(s)" if days is not None else "open")
+            urgency = i.urgency(today)
             what = f"{i.method.upper()} survey" if i.kind == "survey" else f"{i.kind.replace('_', ' ')} {i.tag}"
-            rows.append({"text": f"[b]{when}[/b] - {what}{'  REPEAT LEAKER' if i.repeat_leaker else ''}\n"
-                                 f"{i.site_name} - by {i.due}",
-                         "key": i.leak_id or i.site_id, "stripe": theme.DANGER if late else theme.ACTION,
+            marks = flags(i)
+            rows.append({"text": f"{standing(i, today)} - [b]{what}[/b]{'   ' + marks if marks else ''}\n"
+                                 f"{i.site_name}",
+                         "key": i.leak_id or i.site_id, "stripe": theme.URGENCY_COLOURS[urgency],
                          "on_pick": (self.open_leak if i.leak_id else self.open_site)})
         self.ids.due_items.rows = rows
-        late = sum(1 for i in items if i.overdue(today))
-        self.say(f"{late} overdue, {len(items) - late} due - as of {today}" + (
-            "; " + "; ".join(problems) if problems else ""), "error" if late else "ok")
+        late = sum(1 for i in items if i.urgency(today) == "overdue")
+        soon = sum(1 for i in items if i.urgency(today) == "due_soon")
+        hazards = sum(1 for i in items if i.hazard)
+        self.say(f"{late} overdue, {soon} due soon, {len(items) - late - soon} later"
+                 + (f", {hazards} on hazardous leaks" if hazards else "") + f" - as of {today}" + (
+            "; " + "; ".join(problems) if problems else ""), "error" if late else ("warn" if soon else "ok"))
 
     def open_leak(self, leak_id: str) -> None:
         self.app.leak_id = leak_id

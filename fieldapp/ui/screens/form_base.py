@@ -71,6 +71,25 @@ class FormScreen(BaseScreen):
         if self.draft_key():
             clear_draft(self.store, self.draft_key())
 
+    def refuse(self, problems, what: str = "Not saved") -> None:
+        """Show a refused save: each problem at its field (highlighted), the first one scrolled into view,
+        and the banner naming the fields."""
+        rest = self.form.show_problems(problems) if self.form is not None else [str(p) for p in problems]
+        first = self.form.first_problem_row() if self.form is not None else None
+        named = [self.form.rows_by_name[p.field].label for p in problems
+                 if self.form is not None and p.field in self.form.rows_by_name]
+        text = f"{what}: " + "; ".join(
+            ([f"check {', '.join(dict.fromkeys(named))}"] if named else []) + rest)
+        self.say(text, "error")
+        if first is not None:
+            Clock.schedule_once(lambda *_: self.scroll_to_field(first), 0)
+
+    def scroll_to_field(self, row) -> None:
+        """Bring a field into view (the scroll view of the form body)."""
+        scroller = self.ids.get("scroller")
+        if scroller is not None and row.parent is not None:
+            scroller.scroll_to(row, padding=20, animate=False)
+
     def set_actions(self, primary: str, action, cancel: bool = True) -> None:
         """The bottom bar: an optional Cancel (back) and the screen's main action."""
         from fieldapp.ui.widgets import BigButton, QuietButton

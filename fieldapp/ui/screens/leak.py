@@ -7,6 +7,7 @@ from __future__ import annotations
 import hashlib
 from pathlib import Path
 
+from kivy.clock import Clock
 from kivy.graphics import Color, Line
 from kivy.properties import ListProperty
 from kivy.uix.boxlayout import BoxLayout
@@ -16,13 +17,15 @@ from fieldapp import catalog
 from fieldapp.atomic import write_bytes
 from fieldapp.core.enums import ComponentType, Service, SurveyMethod
 from fieldapp.core.estimate import EstimateError, LeakInput, co2e, estimate
-from fieldapp.core.fields import FieldProblem, ValidationError
-from fieldapp.evidence.ingest import add_media, library
+from fieldapp.core.fields import ValidationError
+from fieldapp.evidence.ingest import library
+from fieldapp.evidence.leak_save import PhotoIn, save_leak_with_media
 from fieldapp.evidence.probe import probe
-from fieldapp.store import ops
 from fieldapp.store.estimates import compressor_component, site_segment, wellhead_component
+from fieldapp.store.lookups import component_by_tag
 from fieldapp.ui import theme
 from fieldapp.ui.forms import Form, Spec
+from fieldapp.ui.photo_viewer import PhotoViewer
 from fieldapp.ui.screens.form_base import FormScreen
 from fieldapp.ui.widgets import Banner, Para, QuietButton
 
@@ -89,39 +92,41 @@ class LeakScreen(FormScreen):
         body.clear_widgets()
         self.hazard_banner = Banner(text="", fill=theme.DANGER, shown=False)
         body.add_widget(self.hazard_banner)
-        self.form = Form([
-            Spec("tag", "Component tag (existing or new)", "text", required=True),
-            Spec("type", "Component type", "choice", tuple(t.value for t in ComponentType), True),
-            Spec("service", "Service", "choice", tuple(s.value for s in Service), True),
-            Spec("location_note", "Where on the component", "text"),
-            Spec("screening_ppm", "Screening value (ppm, Method 21)", "number"),
-            Spec("measured_rate", "Measured rate", "number"),
-            Spec("measured_unit", "Unit of the measured rate", "choice", UNITS),
-            Spec("measured_instrument", "Measuring instrument", "text"),
-            Spec("hazard", "Hazard: large, near ignition, or may carry H2S", "flag"),
-            Spec("hazard_note", "Hazard note", "text"),
-        ], on_change=self.form_changed)
-        self.tag_note = Para(text="", color=theme.MUTED)
-        body.add_widget(self.tag_note)
-        body.add_widget(self.form)
-        self.estimate_label = Para(text="")
-        body.add_widget(self.estimate_label)
         sources = BoxLayout(size_hint_y=None, height=theme.TOUCH, spacing=theme.GAP)
         for source in self.app.sources:
             button = QuietButton(text=f"Photo: {source.name}")
             button.bind(on_release=lambda _b, s=source: s.take(self.got_photo))
             sources.add_widget(button)
         body.add_widget(sources)
-        self.photo_note = Para(text="No photo yet. Take or import one, then tap the leak on it.", color=theme.MUTED)
+        self.photo_note = Para(text="No photo yet. Take or import one, then tap the leak on it.", color=theme.INK)
         body.add_widget(self.photo_note)
-        self.photo = MarkImage(on_mark=self.marked, size_hint_y=None, height=0)
-        body.add_widget(self.photo)
+        self.viewer = PhotoViewer()
+        body.add_widget(self.viewer)
+        self.form = Form([
+            Spec("tag", "Component tag (existing or new)", "text", required=True),
+            Spec("type", "Component type", "choice", tuple(t.value for t in ComponentType), True),
+            Spec("service", "Service", "choice", tuple(s.value for s in Service), True),
+            Spec("hazard", "Hazard: large, near ignition, or may carry H2S", "flag"),
+            Spec("hazard_note", "Hazard note", "text"),
+            Spec("location_note", "Where on the component", "text"),
+            Spec("screening_ppm", "Screening value (ppm, Method 21)", "number"),
+            Spec("measured_rate", "Measured rate", "number"),
+            Spec("measured_unit", "Unit of the measured rate", "choice", UNITS),
+            Spec("measured_instrument", "Measuring instrument", "text"),
+        ], on_change=self.form_changed)
+        self.tag_note = Para(text="", color=theme.MUTED)
+        body.add_widget(self.tag_note)
+        body.add_widget(self.form)
+        self.estimate_label = Para(text="")
+        body.add_widget(self.estimate_label)
         self.set_actions("Save leak", self.do_save)
         self.say("")
         draft = self.restore_draft()
         if draft:
             for item in draft.get("pending", []):
-                self._show_pending(item)
+                if Path(item["path"]).exists():  # a photo file removed by hand is not shown as pending
+                    self.pending.append(item)
+                    self._show_pending(item, scroll=False)
         self.form_changed(save=False)
 
     # -- photos ---------------------------------------------------------------------------------
@@ -141,33 +146,43 @@ class LeakScreen(FormScreen):
         self._show_pending(item)
         self.changed()
 
-    def _show_pending(self, item: dict) -> None:
-        if item not in self.pending:
-            self.pending.append(item)
+    def _show_pending(self, item: dict, scroll: bool = True) -> None:
         if item["kind"] == "photo":
-            self.photo.source = item["path"]
-            self.photo.height = theme.TOUCH * 6
-            self.photo.marker = item.get("marker") or []
-        self.photo_note.text = (f"{len(self.pending)} photo(s)/clip(s) ready. Tap the photo where the leak is."
-                                if not self.photo.marker else "Leak marked on the photo. Tap again to move it.")
+            image = MarkImage(on_mark=lambda marker, it=item: self.marked(it, marker), source=item["path"])
+            image.marker = item.get("marker") or []
+            self.viewer.add(image)
+        self._note()
+        if scroll:  # the hint and the photo in view, so the leak can be tapped at once
+            Clock.schedule_once(lambda *_: self.scroll_to_field(self.photo_note), 0.05)
 
-    def marked(self, marker: list[float]) -> None:
+    @property
+    def photo(self):
+        """The photo on show (a MarkImage), or None."""
+        slides = self.viewer.slides
+        return slides[self.viewer.index] if slides else None
+
+    def _note(self) -> None:
         photos = [p for p in self.pending if p["kind"] == "photo"]
-        if photos:
-            photos[-1]["marker"] = list(marker)
-        self.photo_note.text = "Leak marked on the photo. Tap again to move it."
+        clips = len(self.pending) - len(photos)
+        unmarked = sum(1 for p in photos if not p.get("marker"))
+        what = f"{len(photos)} photo(s)" + (f" and {clips} clip(s)" if clips else "") + " ready."
+        self.photo_note.text = (f"[b]{what}[/b] " + (f"Tap the leak on each photo ({unmarked} not marked yet)."
+                                                     if unmarked else "Leak marked on every photo; tap to move it."))
+
+    def marked(self, item: dict, marker: list[float]) -> None:
+        item["marker"] = list(marker)
+        self._note()
         self.changed()
 
     # -- live feedback --------------------------------------------------------------------------
     def form_changed(self, save: bool = True) -> None:
         values = self.form.values()
         tag = (values.get("tag") or "").strip()
-        known = self.store.rows("SELECT type, service FROM components WHERE site_id = ? AND tag = ? AND deleted = 0",
-                                (self.site["id"], tag)) if tag else []
+        known = component_by_tag(self.store, self.site["id"], tag) if tag else None
         if known:
-            self.tag_note.text = f"{tag}: in the inventory ({known[0]['type']}, {known[0]['service']})"
-            if self.form.values()["type"] != known[0]["type"]:
-                self.form.set_values({"type": known[0]["type"], "service": known[0]["service"]})
+            self.tag_note.text = f"{tag}: in the inventory ({known['type']}, {known['service']})"
+            if self.form.values()["type"] != known["type"]:
+                self.form.set_values({"type": known["type"], "service": known["service"]})
         else:
             self.tag_note.text = f"{tag}: new tag - it will be added to the inventory" if tag else ""
         hazard = values.get("hazard")
@@ -204,41 +219,34 @@ class LeakScreen(FormScreen):
 
     # -- save -----------------------------------------------------------------------------------
     def do_save(self) -> None:
+        if missing := self.form.missing():
+            self.refuse(missing)
+            return
         values = self.form.values()
         tag = (values.pop("tag") or "").strip()
-        if not tag:
-            self.form.show_problems([FieldProblem("tag", "is required")])
-            self.say("Not saved: the tag is required.", "error")
-            return
         leak_values = {k: v for k, v in values.items() if k not in ("type", "service") and v not in (None, "")}
         leak_values.update(survey_id=self.survey["id"],
                            detected_at=self.app.now_text(self.site["timezone"]))
-        known = self.store.rows("SELECT id FROM components WHERE site_id = ? AND tag = ? AND deleted = 0",
-                                (self.site["id"], tag))
+        known = component_by_tag(self.store, self.site["id"], tag)
         new_component = None
         if known:
-            leak_values["component_id"] = known[0]["id"]
+            leak_values["component_id"] = known["id"]
         else:
             new_component = {"tag": tag, "type": values.get("type"), "service": values.get("service")}
+        photos = [PhotoIn(Path(p["path"]), p["name"], tuple(p["marker"]) if p.get("marker") else None)
+                  for p in self.pending]
+        self.save_draft()  # the draft on disk holds everything until the commit below
         try:
-            leak = ops.add_leak(self.store, leak_values, new_component, actor=self.survey["operator"])
+            leak = save_leak_with_media(self.store, leak_values, new_component, photos, marker_label=tag,
+                                        actor=self.survey["operator"], draft=self.draft_key())
         except ValidationError as exc:
-            rest = self.form.show_problems(exc.problems)
-            self.say("Not saved: fix the fields marked in red." + (" " + "; ".join(rest) if rest else ""), "error")
+            self.refuse(exc.problems)
             return
-        problems = []
-        for item in self.pending:
-            data = open(item["path"], "rb").read()
-            marks = [(item["marker"][0], item["marker"][1], tag)] if item.get("marker") else []
-            try:
-                add_media(self.store, leak.id, data, item["name"], marks, actor=self.survey["operator"])
-            except ValidationError as exc:
-                problems.append(str(exc))
-                continue
-            Path(item["path"]).unlink(missing_ok=True)  # the original is now in the library
+        except OSError as exc:  # a pending photo file vanished or cannot be read
+            self.say(f"Not saved: a photo could not be read ({exc}). Take it again.", "error")
+            return
         self.drop_draft()
         self.app.leak_id = leak.id
         self.app.show("survey_run", remember=False)
-        self.app.manager.get_screen("survey_run").say(
-            f"Leak {tag} saved." + (" Photo problems: " + "; ".join(problems) if problems else ""),
-            "warn" if problems else "ok")
+        count = f" with {len(photos)} photo(s)/clip(s)" if photos else ""
+        self.app.manager.get_screen("survey_run").say(f"Leak {tag} saved{count}.", "ok")

@@ -9,9 +9,11 @@ from fieldapp.core.fields import ValidationError
 from fieldapp.core.lifecycle import deadlines, outstanding
 from fieldapp.evidence.ingest import ensure, media_for
 from fieldapp.store import ops
+from fieldapp.store.lookups import leak_action_rows
 from fieldapp.store.reads import facts_for
 from fieldapp.ui import theme
 from fieldapp.ui.forms import Form, Spec
+from fieldapp.ui.photo_viewer import PhotoViewer
 from fieldapp.ui.screens.form_base import FormScreen
 from fieldapp.ui.widgets import Banner, BigButton, Para
 
@@ -31,15 +33,13 @@ class RepairScreen(FormScreen):
         return f"repair:{self.app.leak_id}" if self.app.leak_id else ""
 
     def refresh(self) -> None:
-        from kivy.uix.image import Image
-
         leak, site, _detected = ops.leak_context(self.store, self.app.leak_id)
         comp = self.store.get("components", leak["component_id"])
         program = catalog.program(site["program_id"])
         facts = facts_for([{**leak, "timezone": site["timezone"]}],
-                          self.store.rows("SELECT * FROM actions WHERE leak_id = ?", (leak["id"],)))[leak["id"]]
+                          leak_action_rows(self.store, leak["id"]))[leak["id"]]
         today = self.app.today(site["timezone"])
-        self.title = f"{comp['tag']} - {facts.state.value.upper()} - {site['name']}"
+        self.title = f"{facts.state.value.upper()} - {comp['tag']} - {site['name']}"  # the state first: never cut
         body = self.ids.body
         body.clear_widgets()
         if leak["hazard"]:
@@ -63,15 +63,12 @@ class RepairScreen(FormScreen):
         body.add_widget(Para(text=f"{comp['type'].replace('_', ' ')}, {comp['service'].replace('_', ' ')} - found "
                                   f"{facts.detected_on} - {leak['location_note']}"))
         body.add_widget(Para(text="\n".join(lines) or "No deadlines."))
-        photos = [m for m in media_for(self.store, leak["id"]) if m["media_kind"] == "photo"]
-        if photos:
-            body.add_widget(Image(source=str(ensure(self.store, photos[0], "marked")), size_hint_y=None,
-                                  height=theme.TOUCH * 4, fit_mode="contain"))
         choices = NEXT[facts.state.value]
         self.ids.actions.clear_widgets()
         if not choices:
             self.form = None
             body.add_widget(Para(text=f"This leak is {facts.state.value}; nothing more to log."))
+            self.add_photos(leak)
             return
         self.form = Form([
             Spec("kind", "What was done", "choice", choices, True),
@@ -85,20 +82,36 @@ class RepairScreen(FormScreen):
         ], on_change=self.changed)
         self.form.set_values({"done_on": today.isoformat()})
         body.add_widget(self.form)
+        self.add_photos(leak)
         save = BigButton(text="Save")
         save.bind(on_release=lambda *_: self.do_save())
         self.ids.actions.add_widget(save)
         self.say("")
         self.restore_draft()
 
+    def add_photos(self, leak) -> None:
+        """All photos of the leak, marked, one at a time with a count."""
+        from kivy.uix.image import Image
+
+        body = self.ids.body
+        photos = [m for m in media_for(self.store, leak["id"]) if m["media_kind"] == "photo"]
+        if photos:
+            self.viewer = PhotoViewer()
+            for m in photos:
+                self.viewer.add(Image(source=str(ensure(self.store, m, "marked")), fit_mode="contain"), show=False)
+            self.viewer.carousel.index = 0
+            body.add_widget(self.viewer)
+
     def do_save(self) -> None:
+        if missing := self.form.missing():
+            self.refuse(missing)
+            return
         values = {k: v for k, v in self.form.values().items() if v is not None}
         values["leak_id"] = self.app.leak_id
         try:
             action = ops.add_action(self.store, values, actor=values.get("actor", ""))
         except ValidationError as exc:
-            rest = self.form.show_problems(exc.problems)
-            self.say("Not saved: " + ("; ".join(rest) if rest else "fix the fields marked in red."), "error")
+            self.refuse(exc.problems)
             return
         self.drop_draft()
         self.refresh()

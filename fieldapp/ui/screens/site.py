@@ -7,8 +7,10 @@ from pathlib import Path
 from kivy.lang import Builder
 from kivy.properties import StringProperty
 
+from fieldapp.store.lookups import components_by_prefix
 from fieldapp.store.reads import list_leaks, list_surveys
 from fieldapp.ui import theme
+from fieldapp.ui.due_words import coloured
 from fieldapp.ui.screens.base import BaseScreen
 
 Builder.load_file(str(Path(__file__).with_name("site_screen.kv")))
@@ -17,9 +19,7 @@ PAGE = 200
 
 def component_rows(store, site_id: str, prefix: str, limit: int = PAGE) -> list[dict]:
     """A page of components whose tag starts with ``prefix`` (index on site and tag)."""
-    rows = store.rows("SELECT id, tag, type, service, area, difficult_to_monitor, unsafe_to_monitor FROM components "
-                      "WHERE site_id = ? AND deleted = 0 AND tag >= ? AND tag < ? ORDER BY tag LIMIT ?",
-                      (site_id, prefix, prefix + "\uffff", limit))
+    rows = components_by_prefix(store, site_id, prefix, limit)
     out = []
     for r in rows:
         flags = (" - difficult to monitor" if r["difficult_to_monitor"] else "") + (
@@ -43,8 +43,10 @@ class SiteScreen(BaseScreen):
         self.caution = (f"CAUTION - hazardous leak(s) open: {', '.join(hazards)}. Follow the site's emergency "
                         f"procedures before approaching. {site['emergency_note']}") if hazards else ""
         self.ids.leaks.rows = [{
-            "text": f"[b]{x['tag']}[/b]  {x['state'].upper()}{'  HAZARD' if x['hazard'] else ''}"
-                    f"{'  REPEAT LEAKER' if x['repeat_leaker'] else ''}\n{x['component_type'].replace('_', ' ')} - "
+            "text": f"[b]{x['tag']}[/b]  {x['state'].upper()}"
+                    f"{'   ' + coloured('HAZARD', 'overdue') if x['hazard'] else ''}"
+                    f"{'   ' + coloured('REPEAT LEAKER', 'overdue') if x['repeat_leaker'] else ''}\n"
+                    f"{x['component_type'].replace('_', ' ')} - "
                     f"found {x['detected_on']}",
             "key": x["id"], "stripe": theme.STATE_COLOURS[x["state"]], "on_pick": self.pick_leak,
         } for x in leaks]

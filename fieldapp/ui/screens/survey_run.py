@@ -7,11 +7,30 @@ from kivy.uix.gridlayout import GridLayout
 from kivy.uix.togglebutton import ToggleButton
 
 from fieldapp.core.fields import ValidationError
+from fieldapp.core.weather_units import CONDITION_FIELDS, shown
 from fieldapp.store import ops
+from fieldapp.store.lookups import survey_leaks
+from fieldapp.store.prefs import unit_system
 from fieldapp.ui import theme
+from fieldapp.ui.due_words import coloured
 from fieldapp.ui.forms import Form, Spec
 from fieldapp.ui.screens.form_base import FormScreen
 from fieldapp.ui.widgets import BigButton, Para, QuietButton
+
+
+def conditions_text(survey: dict, system: str) -> str:
+    """The survey's conditions in a unit system, with what was typed when it was another unit."""
+    parts = []
+    for name, kind, what in (("ambient_temp_c", "temperature", "air"), ("wind_speed_m_s", "speed", "wind"),
+                             ("wind_max_m_s", "speed", "max wind")):
+        text = shown(survey.get(name), kind, system)
+        if text:
+            entered, unit_field, _kind = CONDITION_FIELDS[name]
+            typed = f"{survey.get(entered):g} {survey.get(unit_field)}" if survey.get(entered) is not None else ""
+            parts.append(f"{what} {text}" + (f" (typed {typed})" if typed and not text.endswith(
+                str(survey.get(unit_field))) else ""))
+    return "[b]Conditions:[/b] " + (", ".join(parts) or "not recorded") + (f", {survey['sky']}" if survey.get(
+        "sky") else "")
 
 
 class SurveyRunScreen(FormScreen):
@@ -33,6 +52,7 @@ class SurveyRunScreen(FormScreen):
         self.title = f"Surveying {site['name']} - {survey['method'].upper()}"
         body = self.ids.body
         body.clear_widgets()
+        body.add_widget(Para(text=conditions_text(survey, unit_system(self.store).key)))
         body.add_widget(Para(text="[b]Areas covered - tap each when done[/b]"))
         grid = GridLayout(cols=3, spacing=theme.GAP, size_hint_y=None)
         grid.bind(minimum_height=grid.setter("height"))
@@ -47,10 +67,9 @@ class SurveyRunScreen(FormScreen):
             self.area_buttons.append(b)
             grid.add_widget(b)
         body.add_widget(grid)
-        leaks = self.store.rows("SELECT c.tag, c.type, l.hazard FROM leaks l JOIN components c ON c.id = "
-                                "l.component_id WHERE l.survey_id = ? AND l.deleted = 0 ORDER BY l.detected_at",
-                                (survey["id"],))
-        text = "\n".join(f"- {r['tag']} ({r['type'].replace('_', ' ')}){'  HAZARD' if r['hazard'] else ''}"
+        leaks = survey_leaks(self.store, survey["id"])
+        hazard = "  " + coloured("HAZARD", "overdue")
+        text = "\n".join(f"- {r['tag']} ({r['type'].replace('_', ' ')}){hazard if r['hazard'] else ''}"
                          for r in leaks) or "No leaks recorded yet."
         body.add_widget(Para(text=f"[b]Leaks found: {len(leaks)}[/b]\n{text}"))
         self.form = Form([Spec("deviations", "Deviations from the monitoring plan", "text"),
@@ -92,8 +111,7 @@ class SurveyRunScreen(FormScreen):
         try:
             ops.end_survey(self.store, self.app.survey_id, changes)
         except ValidationError as exc:
-            rest = self.form.show_problems(exc.problems)
-            self.say("Not ended: " + "; ".join(rest or ["fix the fields marked in red"]), "error")
+            self.refuse(exc.problems, "Not ended")
             return
         self.drop_draft()
         self.app.show("site", remember=False)

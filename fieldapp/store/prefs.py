@@ -1,0 +1,29 @@
+"""Preferences kept per store file (this tablet's store): the unit system the crew types in.
+
+A preference is not a record: it is not journalled and does not travel in bundles; every record
+keeps the units it was typed in.
+"""
+
+from __future__ import annotations
+
+from fieldapp.core.fields import FieldProblem, ValidationError
+from fieldapp.core.weather_units import DEFAULT_SYSTEM, SYSTEMS, UnitSystem
+from fieldapp.store.base import Store
+
+UNITS_KEY = "unit_system"
+
+
+def unit_system(store: Store) -> UnitSystem:
+    """The store's unit system (°C and m/s unless set)."""
+    row = store.conn.execute("SELECT value FROM meta WHERE key = ?", (UNITS_KEY,)).fetchone()
+    return SYSTEMS.get(row[0] if row else DEFAULT_SYSTEM, SYSTEMS[DEFAULT_SYSTEM])
+
+
+def set_unit_system(store: Store, key: str) -> UnitSystem:
+    """Set the store's unit system ('metric' or 'us')."""
+    if key not in SYSTEMS:
+        raise ValidationError([FieldProblem("units", f"{key!r} is not allowed; allowed: {', '.join(SYSTEMS)}")])
+    with store.transaction():
+        store.conn.execute("INSERT INTO meta(key, value) VALUES (?, ?) ON CONFLICT(key) DO UPDATE SET "
+                           "value = excluded.value", (UNITS_KEY, key))
+    return SYSTEMS[key]
