@@ -388,3 +388,25 @@ def test_every_program_value_has_a_citation_and_a_status(program_id, capsys):
     for v in values:
         assert v["citation"].strip(), v
         assert v["status"] in ("text", "memory", "summary", "company"), v
+
+
+# --- the demo ------------------------------------------------------------------------------------
+
+def test_demo_holds_an_avo_found_oooob_leak_and_a_delay_waiting_for_parts(demo_store):
+    # Demo data is invented; the day counts it shows are the rule's: 60.5397b(h)(1)(i), (h)(2)
+    # [text, eCFR 9/10/2026] and 60.5397a(h)(3)(ii)(C) [text, eCFR 9/11/2026].
+    from fieldapp.store import due
+
+    rows = demo_store.rows(
+        "SELECT l.id, l.detection_method, s.program_id, c.tag FROM leaks l JOIN components c ON c.id = l.component_id "
+        "JOIN surveys v ON v.id = l.survey_id JOIN sites s ON s.id = v.site_id WHERE l.detection_method = 'avo'")
+    assert [(r["program_id"], r["tag"]) for r in rows] == [(OOOOB, "OM5-0006")]
+    items = {(i.tag, i.kind): i for i in due.leak_items(demo_store)}
+    avo_first = demo_store.rows("SELECT done_on FROM actions WHERE leak_id = ? AND kind = 'first_attempt'",
+                                (rows[0]["id"],))[0]["done_on"]
+    assert items[("OM5-0006", "final_repair")].due == D(avo_first) + timedelta(days=15)
+    parts = demo_store.rows("SELECT a.* FROM actions a JOIN leaks l ON l.id = a.leak_id "
+                            "WHERE a.delay_kind = 'parts'")
+    assert len(parts) == 1 and parts[0]["parts_ordered_on"] and parts[0]["parts_received_on"] is None
+    waiting = [i for i in items.values() if i.kind == "delay_limit" and i.due is None]
+    assert len(waiting) == 1  # the limit is set only when the replacement is received
