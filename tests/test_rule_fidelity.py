@@ -147,6 +147,16 @@ def test_60_5397a_h_3_ii_c_parts_order_10_days_after_first_attempt_repair_30_aft
     assert done["parts_order"] == "2027-01-25"
 
 
+def test_parts_route_refused_by_the_calculator_under_a_program_without_one(capsys):
+    # 40 CFR 61.242-10 has no parts route in the shipped program (status memory); the calculator must say so,
+    # as ops.add_action does, rather than print a delay limit with no date.
+    code = main(["rules", "deadlines", "--program", "us-method21-process-unit", "--detected", "2027-01-10",
+                 "--delayed", "2027-01-12", "--parts-ordered", "2027-01-12"])
+    _out, err = capsys.readouterr()
+    assert code != 0
+    assert "parts-ordered" in err and "allowed: --shutdown" in err
+
+
 def test_60_5397b_h_3_ii_c_limit_waits_for_receipt_and_resurvey_follows_the_delay_limit():
     # 60.5397b(h)(3)(ii)(C) [text, eCFR 9/10/2026]: the 30 days run from receipt, so no limit before it.
     ordered = act("delay_of_repair", "2027-01-25", 1, reason="custom fabrication", delay_kind=DelayKind.PARTS,
