@@ -257,6 +257,16 @@ def test_60_5397b_g_1_generic_well_site_refused_with_the_allowed_kinds(store, ca
         next_window(catalog.program(OOOOB), SiteKind.WELL_SITE, None, [PastSurvey(D("2027-01-15"))])
 
 
+def test_60_5397a_g_5_wellhead_only_site_is_accepted_with_no_periodic_survey(store):
+    # 60.5397a(g)(5): "You are no longer required to comply with the requirements of paragraph (g)(1) ... when
+    # the owner or operator removes all major production and processing equipment ... such that the well site
+    # becomes a wellhead only well site" [text, eCFR 9/11/2026].
+    ops.add_site(store, {"name": "Pad H", "kind": "single_wellhead", "program_id": OOOOA,
+                         "timezone": "America/Denver", "startup_date": "2026-01-10", "methane_mole_fraction": 0.8})
+    with pytest.raises(WindowError, match=r"no periodic survey .*60\.5397a\(g\)\(5\)"):
+        next_window(catalog.program(OOOOA), SiteKind.SINGLE_WELLHEAD, None, [PastSurvey(D("2027-01-15"))])
+
+
 def test_60_5397b_g_1_iv_major_equipment_gets_quarterly_ogi_and_bimonthly_avo():
     # 60.5397b(g)(1)(iv)(E) bimonthly AVO, (F) quarterly OGI or Method 21 [text, eCFR 9/10/2026].
     program = catalog.program(OOOOB)
