@@ -79,7 +79,7 @@ def load(store: Store, today: date | None = None) -> dict[str, int]:
                 values = {**action, "leak_id": leak.id, "actor": scenario["crews"]["a"]["operator"],
                           "done_on": zone_today + timedelta(days=action["day"])}
                 values.pop("day")
-                for key in ("planned_on", "shutdown_on"):
+                for key in ("planned_on", "shutdown_on", "parts_ordered_on", "parts_received_on"):
                     if key in values:
                         values[key] = zone_today + timedelta(days=values[key])
                 ops.add_action(store, values, ACTOR)

@@ -92,3 +92,35 @@ def test_version_7_file_upgrades_to_keep_survey_conditions_as_typed(tmp_path):
     assert (row["ambient_temp_c"], row["wind_max_m_s"]) == (4.5, 3.0)
     assert (row["ambient_temp_entered"], row["temp_unit"], row["wind_max_entered"], row["wind_unit"]) == (
         None, "", None, "")
+
+
+def test_version_7_file_upgrades_to_8_and_old_leaks_read_with_their_survey_method(tmp_path):
+    # Migration 8 keeps the detection method on the leak; a leak stored before it has NULL there and is read
+    # with its survey's method (COALESCE). Under OOOOb an AVO-found leak gets its first attempt within 15
+    # calendar days of detection: 40 CFR 60.5397b(h)(1)(i) [text, eCFR 9/10/2026]. Detected 2026-11-20 -> 12-05.
+    from fieldapp.store import due, reads
+
+    path = tmp_path / "v7.db"
+    conn = sqlite3.connect(path, isolation_level=None)
+    assert schema.migrate(conn, target=7)[-1] == 7
+    conn.execute("INSERT INTO meta VALUES ('device_id', 'old-device')")
+    conn.execute("INSERT INTO sites (id, name, kind, program_id, timezone, methane_mole_fraction) "
+                 "VALUES ('s1', 'Old station', 'compressor_station', 'us-nsps-oooo-b', 'America/Denver', 0.8)")
+    conn.execute("INSERT INTO components (id, site_id, tag, type, service) VALUES ('c1', 's1', 'V-1', 'valve', 'gas')")
+    conn.execute("INSERT INTO surveys (id, site_id, method, started_at, operator) "
+                 "VALUES ('v1', 's1', 'avo', '2026-11-20T08:00:00-07:00', 'Old hand')")
+    conn.execute("INSERT INTO leaks (id, survey_id, component_id, detected_at) "
+                 "VALUES ('l1', 'v1', 'c1', '2026-11-20T09:00:00-07:00')")
+    conn.close()
+    store = Store(path)
+    assert schema.current_version(store.conn) == schema.LATEST >= 8
+    cols = {t: {r[1] for r in store.conn.execute(f"PRAGMA table_info({t})")} for t in ("leaks", "actions")}
+    assert {"detection_method", "tag_attached"} <= cols["leaks"]
+    assert {"method", "delay_kind", "parts_ordered_on", "parts_received_on"} <= cols["actions"]
+    leak = store.get("leaks", "l1")
+    assert leak["detection_method"] is None and leak["tag_attached"] == 0
+    items = {i.kind: i.due.isoformat() for i in due.leak_items(store)}
+    # (h)(2): repair within 15 days after the first attempt; none yet, so from its due date: 12-20.
+    assert items == {"first_attempt": "2026-12-05", "final_repair": "2026-12-20"}
+    listed = reads.list_leaks(store)
+    assert [row["state"] for row in listed] == ["open"]

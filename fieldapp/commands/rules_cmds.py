@@ -132,6 +132,9 @@ def cmd_deadlines(args: argparse.Namespace) -> int:
     if (args.parts_ordered or args.parts_received) and args.delayed is None:
         raise ValidationError([FieldProblem("delayed", "is required with --parts-ordered or "
                                             "--parts-received (the date the delay of repair began)")])
+    if (args.parts_ordered or args.parts_received) and (program.delay is None or program.delay.parts is None):
+        raise ValidationError([FieldProblem("parts-ordered", f"program {program.id} has no delay of repair for "
+                                            "parts; allowed: --shutdown")])
     if args.parts_received and not args.parts_ordered:
         raise ValidationError([FieldProblem("parts-ordered", "is required with --parts-received")])
     if args.delayed is not None:

@@ -196,10 +196,17 @@ class Program:
         name no method) the highest screening threshold that the leak reaches wins.
         """
         method = method or self.primary_method
-        specific = [t for t in self.repair_tiers if t.methods and method in t.methods and not (
-            t.fallback_if_ppm_at_most is not None and screening_ppm is not None
-            and screening_ppm <= t.fallback_if_ppm_at_most)]
+        named = [t for t in self.repair_tiers if t.methods and method in t.methods]
+        fell_back = [t for t in named if t.fallback_if_ppm_at_most is not None and screening_ppm is not None
+                     and screening_ppm <= t.fallback_if_ppm_at_most]
+        specific = [t for t in named if t not in fell_back]
         generic = [t for t in self.repair_tiers if not t.methods]
+        if fell_back and not specific:
+            # A reading at or below the fallback value leaves the method's tier for the generic tiers,
+            # but never for one that starts at or below that value (30 TAC 115.782(b)(3): "10,000 ppmv or
+            # less" gets the (b)(2) time, even where a generic tier starts at 10,000).
+            floor = min(t.fallback_if_ppm_at_most for t in fell_back)
+            generic = [t for t in generic if t.min_ppm is None or t.min_ppm > floor]
         for group in (specific, generic):
             for tier in sorted(group, key=lambda t: -(t.min_ppm or 0)):
                 if tier.min_ppm is None or (screening_ppm is not None and screening_ppm >= tier.min_ppm):

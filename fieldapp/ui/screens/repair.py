@@ -36,7 +36,9 @@ class RepairScreen(FormScreen):
         leak, site, _detected = ops.leak_context(self.store, self.app.leak_id)
         comp = self.store.get("components", leak["component_id"])
         program = catalog.program(site["program_id"])
-        facts = facts_for([{**leak, "timezone": site["timezone"]}],
+        # The survey's method stands in for a leak stored before its detection method was kept (schema 8).
+        facts = facts_for([{**leak, "timezone": site["timezone"],
+                            "survey_method": ops.leak_method(self.store, leak).value}],
                           leak_action_rows(self.store, leak["id"]))[leak["id"]]
         today = self.app.today(site["timezone"])
         self.title = f"{facts.state.value.upper()} - {comp['tag']} - {site['name']}"  # the state first: never cut
