@@ -310,7 +310,8 @@ def replay(entries: list[dict[str, Any]]) -> tuple[dict[str, Any] | None, list[t
                 raise HistoryMismatch(f"{entry_name(e)}: its old {key} {str(old.get(key))[:40]!r} was never a value "
                                       "of that record")
             previous = writer.get(key)
-            if previous is not None and previous["device_id"] != e["device_id"] and old.get(key) != state.get(key):
+            if previous is not None and previous["device_id"] != e["device_id"] and old.get(key) != state.get(key) \
+                    and value != state.get(key):
                 conflicts.append((key, e, previous, state.get(key)))
             state[key] = value
             writer[key] = e
@@ -335,12 +336,14 @@ def rebuild(store: Store, new: list[dict[str, Any]], known: list[dict[str, Any]]
             grouped[(e["tbl"], e["row_id"])].append(e)
     by_table: dict[str, list[dict[str, Any]]] = defaultdict(list)
     conflict_rows = []
+    replayed: list[tuple[str]] = []  # their conflicts are those of this full replay, whatever was seen before
     for (tbl, row_id), entries in grouped.items():
         if len(entries) == 1 and entries[0]["op"] == "insert":  # new to this store, inserted once
             by_table[tbl].append(entries[0]["new"])
             continue
         entries.sort(key=itemgetter("hlc"))
         state, conflicts = replay(entries)
+        replayed.append((row_id,))
         if state is not None:
             by_table[tbl].append(state)
         for key, winner, loser, _value in conflicts:
@@ -368,6 +371,7 @@ def rebuild(store: Store, new: list[dict[str, Any]], known: list[dict[str, Any]]
         count += len(rows)
         if written is not None:
             written[tbl].update(r["id"] for r in rows)
+    conn.executemany("DELETE FROM conflicts WHERE row_id = ?", replayed)
     conn.executemany("INSERT OR IGNORE INTO conflicts VALUES (?,?,?,?,?,?,?,?,?)", conflict_rows)
     return count, len(conflict_rows)
 
