@@ -170,9 +170,8 @@ def merge_many(store: Store, paths: list[Path | str]) -> list[MergeResult]:
             if problems := dangling_references(conn, written):
                 raise BundleError(" + ".join(b.path.name for b in bundles),
                                   f"would leave records pointing at nothing: {'; '.join(problems)}")
-            if written.get("components"):
-                collided = tag_collisions(store, written["components"])
-                results[-1].collisions = len(collided)
+            if written.get("components") and any_tag_collision(store):
+                results[-1].collisions = len(tag_collisions(store, written["components"]))
             conn.executemany("INSERT OR IGNORE INTO meta(key, value) VALUES (?, ?)",
                              [(JOURNAL_SEEN + b.journal_sha256, b.manifest["device_id"]) for b in bundles
                               if b.manifest["kind"] == "device" and b.entries_decoded])
@@ -199,6 +198,12 @@ def _checked(path: Path | str, held, signed, now_ms: int, known_journal) -> Chec
     except (Exception, RecursionError) as exc:  # a case the checks above do not name: still one clear line
         raise BundleError(path, f"could not be checked ({type(exc).__name__}: {str(exc)[:200]}); nothing was "
                           "changed") from None
+
+
+def any_tag_collision(store: Store) -> bool:
+    """True when two live components of a site share a tag (one pass over the (site, tag) index)."""
+    return store.conn.execute("SELECT 1 FROM components INDEXED BY components_site_tag_live WHERE deleted = 0 "
+                              "GROUP BY site_id, tag HAVING COUNT(*) > 1 LIMIT 1").fetchone() is not None
 
 
 def tag_collisions(store: Store, among: set[str] | None = None) -> list[dict[str, Any]]:
@@ -278,10 +283,6 @@ class HistoryMismatch(ValueError):
     """An entry's old values are not values its record ever held: it was not written against this record."""
 
 
-def _key(value: Any) -> Any:
-    return tuple(value) if isinstance(value, list) else value
-
-
 def replay(entries: list[dict[str, Any]]) -> tuple[dict[str, Any] | None, list[tuple]]:
     """A record's state from its entries (sorted by hlc), and its conflicts (field, winner, loser).
 
@@ -290,7 +291,8 @@ def replay(entries: list[dict[str, Any]]) -> tuple[dict[str, Any] | None, list[t
     """
     state: dict[str, Any] | None = None
     writer: dict[str, dict[str, Any]] = {}
-    held: dict[str, set] = defaultdict(set)
+    inserts: list[dict[str, Any]] = []
+    later: dict[str, list] = defaultdict(list)  # values fields took after the insert
     conflicts = []
     for e in entries:
         if e["op"] == "insert" or state is None:
@@ -299,23 +301,23 @@ def replay(entries: list[dict[str, Any]]) -> tuple[dict[str, Any] | None, list[t
             state = dict(e["new"]) if state is None else {**e["new"], **state}
             for k in state:
                 writer[k] = e
-            for k, v in e["new"].items():
-                held[k].add(_key(v))
+            inserts.append(e["new"])
             continue
         old, new = e["old"] or {}, e["new"] or {}
         for key, value in new.items():
-            if old.get(key) == value:
+            was = old.get(key)
+            if was == value:
                 continue
-            if _key(old.get(key)) not in held[key]:
-                raise HistoryMismatch(f"{entry_name(e)}: its old {key} {str(old.get(key))[:40]!r} was never a value "
+            if not any(i.get(key) == was for i in inserts) and was not in later[key]:
+                raise HistoryMismatch(f"{entry_name(e)}: its old {key} {str(was)[:40]!r} was never a value "
                                       "of that record")
             previous = writer.get(key)
-            if previous is not None and previous["device_id"] != e["device_id"] and old.get(key) != state.get(key) \
+            if previous is not None and previous["device_id"] != e["device_id"] and was != state.get(key) \
                     and value != state.get(key):
                 conflicts.append((key, e, previous, state.get(key)))
             state[key] = value
             writer[key] = e
-            held[key].add(_key(value))
+            later[key].append(value)
     return state, conflicts
 
 
