@@ -5,6 +5,7 @@ Key files, beside the store (``plumebook.db`` -> ``plumebook-keys/``)::
     <store>-keys/device.key   this store's private key (PKCS#8 PEM, file mode 0600); made on first use.
                               Never copy it to another machine: a copied store must get its own device.
     <store>-keys/device.pub   its public key, 64 hex digits (what the office enrols)
+    <store>-keys/device.id    the device id the pair belongs to (keys of another device are refused)
 
 The ``devices`` table (migration 10) holds the public keys this store trusts: at the office, each
 enrolled tablet (role ``tablet``, with a device name); on a tablet, its office (role ``office``,
@@ -41,6 +42,11 @@ def key_folder(store: Store) -> Path:
 def _private_key(store: Store) -> Ed25519PrivateKey:
     folder = key_folder(store)
     path = folder / "device.key"
+    owner = folder / "device.id"
+    if owner.exists() and owner.read_text(encoding="utf-8").strip() != store.device_id:
+        raise ValidationError([FieldProblem(str(folder), f"holds the keys of device {owner.read_text().strip()}, "
+                                            f"not of this store ({store.device_id}): move the folder away so this "
+                                            "store makes its own key pair, then enrol it again")])
     if path.exists():
         key = serialization.load_pem_private_key(path.read_bytes(), password=None)
         if not isinstance(key, Ed25519PrivateKey):
@@ -53,6 +59,7 @@ def _private_key(store: Store) -> Ed25519PrivateKey:
     write_bytes(path, pem)
     os.chmod(path, 0o600)
     write_bytes(folder / "device.pub", (_hex(key.public_key()) + "\n").encode())
+    write_bytes(owner, (store.device_id + "\n").encode())
     return key
 
 
