@@ -25,8 +25,7 @@ from typing import Any
 
 from fieldapp import catalog
 from fieldapp.atomic import write_bytes
-from fieldapp.core.fields import FieldProblem, ValidationError
-from fieldapp.evidence.ingest import library
+from fieldapp.evidence.ingest import original_bytes
 from fieldapp.store.base import JOURNAL_COLUMNS, Store
 from sync import trust
 
@@ -96,19 +95,6 @@ def _journal_member(entries: list[dict[str, Any]]) -> bytes:
     return "".join(json.dumps(e, sort_keys=True, ensure_ascii=False) + "\n" for e in entries).encode("utf-8")
 
 
-def media_original(store: Store, sha: str) -> bytes:
-    """The bytes of one original; a clear ValidationError naming the folder when it is missing."""
-    lib = library(store)
-    if not lib.originals.is_dir():
-        raise ValidationError([FieldProblem("media folder", f"{lib.originals} is missing: copy the store's media "
-                                            f"folder ({lib.root.name}/) beside {store.path.name} and try again")])
-    path = lib.original(sha)
-    if not path.is_file():
-        raise ValidationError([FieldProblem("media folder", f"original {path} is missing: restore it from a backup "
-                                            "of the media folder (`plumebook verify` lists every missing file)")])
-    return path.read_bytes()
-
-
 def make_device_bundle(store: Store, out: Path, since: int | None = None) -> BundleSummary:
     """Write this device's journal entries after ``since`` (default: the office's acknowledgement)."""
     start = acked_seq(store) if since is None else since
@@ -116,7 +102,7 @@ def make_device_bundle(store: Store, out: Path, since: int | None = None) -> Bun
     members = {"journal.jsonl": _journal_member(entries)}
     hashes = _media_hashes(entries)
     for sha in hashes:
-        members[f"media/{sha}"] = media_original(store, sha)
+        members[f"media/{sha}"] = original_bytes(store, sha)
     seq_to = entries[-1]["seq"] if entries else start
     manifest = {"format": FORMAT, "version": VERSION, "kind": "device", "device_id": store.device_id,
                 "seq_from": start + 1, "seq_to": seq_to, "created_at": store.now_text(), "entries": len(entries)}

@@ -285,6 +285,9 @@ def test_missing_media_folder_is_named(demo_store, tmp_path, capsys):
         make_device_bundle(demo_store, tmp_path / "b.zip")
     assert main(["--db", str(demo_store.path), "bundle", "make", "--out", str(tmp_path / "b.zip")]) == 2
     assert "is missing" in capsys.readouterr().err
+    survey = demo_store.rows("SELECT survey_id FROM leaks l JOIN media m ON m.leak_id = l.id LIMIT 1")[0]["survey_id"]
+    assert main(["--db", str(demo_store.path), "report", "survey", survey, "--out", str(tmp_path / "s.pdf")]) == 2
+    assert "demo-media/originals is missing" in capsys.readouterr().err
 
 
 def test_peak_memory_of_checking_stays_bounded(demo_store, office, good, tmp_path):
