@@ -74,6 +74,12 @@ def test_same_tag_on_two_devices_is_a_visible_collision_not_a_crash(pair, tmp_pa
     db = str(tmp_path / "office" / "o.db")
     assert main(["--db", db, "conflicts"]) == 0
     assert "TD-9001" in capsys.readouterr().out
+    from sync.report_model import period_report, survey_report
+    office = Store(db)
+    flagged = [c for c in survey_report(office, survey.id).cautions if c.startswith("DUPLICATE TAG TD-9001")]
+    assert len(flagged) == 1 and "2 components" in flagged[0]
+    assert any("TD-9001" in c for c in period_report(office, DEMO_NOW.date(), DEMO_NOW.date()).cautions)
+    office.close()
     # the office joins the two: the leak follows the kept component, the join travels to the tablet
     assert main(["--db", db, "resolve", "join", at_office.id, on_tablet.id]) == 0
     office = Store(db)
