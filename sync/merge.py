@@ -102,8 +102,19 @@ def _new_entries(store: Store, bundle: CheckedBundle) -> list[dict[str, Any]]:
         raise BundleError(bundle.path, f"acknowledges entries up to {m['ack_seq']}, but this tablet has written "
                           f"only {sent}")
     check_programs(bundle)
-    known = set(store.conn.execute("SELECT device_id || ':' || seq FROM journal").fetchall())
-    return [e for e in bundle.entries if (f"{e['device_id']}:{e['seq']}",) not in known]
+    keys = dumps([[e["device_id"], e["seq"]] for e in bundle.entries])
+    held = {(r["device_id"], r["seq"]): r for r in store.rows(
+        f"SELECT {', '.join(f'j.{c}' for c in ENTRY_COLUMNS)} FROM json_each(?) t CROSS JOIN journal j "
+        "ON j.device_id = t.value ->> 0 AND j.seq = t.value ->> 1", (keys,))}
+    for row in held.values():
+        row["old"] = loads(row["old"]) if row["old"] else None
+        row["new"] = loads(row["new"]) if row["new"] else None
+    for e in bundle.entries:
+        mine = held.get((e["device_id"], e["seq"]))
+        if mine is not None and mine != e:
+            raise BundleError(bundle.path, f"{entry_name(e)} differs from the entry this store already holds "
+                              "under that number: the bundle was altered")
+    return [e for e in bundle.entries if (e["device_id"], e["seq"]) not in held]
 
 
 def check_programs(bundle: CheckedBundle) -> None:

@@ -303,3 +303,11 @@ def test_peak_memory_of_checking_stays_bounded(demo_store, office, good, tmp_pat
     _now, peak = tracemalloc.get_traced_memory()
     tracemalloc.stop()
     assert peak < 2 * 1024**2 + 30 * journal, (peak, journal)
+
+
+def test_office_bundle_altering_an_entry_the_tablet_holds_is_refused(demo_store, office, office_bundle, tmp_path):
+    merge(demo_store, office_bundle)
+    altered = forge(office_bundle, tmp_path / "altered.zip", office,
+                    entries=lambda es: first(es, "sites")["new"].update(name="Renamed behind the journal"))
+    refused(demo_store, altered, "differs from the entry this store already holds")
+    assert merge(demo_store, office_bundle).new_entries == 0
