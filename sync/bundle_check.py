@@ -31,7 +31,7 @@ from fieldapp.store.base import loads
 from fieldapp.store.batches import BATCH_OP, expand
 from fieldapp.store.batches import problem as batch_problem
 from sync.bundle import ENTRY_COLUMNS, FORMAT, VERSION
-from sync.entry_gate import entry_name, entry_problem
+from sync.entry_gate import entries_problem, entry_name
 
 MAX_MEMBER = 2 * 1024**3
 MAX_TOTAL = 8 * 1024**3
@@ -276,6 +276,7 @@ def _entries(path: Path, blob: bytes, manifest: dict[str, Any], now_ms: int | No
         raise BundleError(path, "journal.jsonl is damaged (a line holds more than one value)") from None
     kind, device = manifest["kind"], manifest["device_id"]
     expected = manifest["seq_from"]
+    plain: list[dict[str, Any]] = []  # batch entries as one insert per record
     for n, e in enumerate(entries, 1):
         if not isinstance(e, dict) or e.keys() != FIELDS:
             raise BundleError(path, f"journal.jsonl line {n}: an entry lacks the expected fields")
@@ -302,10 +303,9 @@ def _entries(path: Path, blob: bytes, manifest: dict[str, Any], now_ms: int | No
         if op == BATCH_OP:
             if wrong := batch_problem(e):
                 raise BundleError(path, f"{entry_name(e)}: {wrong}")
-            plain = expand(e)
+            plain += expand(e)
         else:
-            plain = (e,)
-        for p in plain:
-            if wrong := entry_problem(p, now_ms):
-                raise BundleError(path, f"{entry_name(p)} {wrong}")
+            plain.append(e)
+    if found := entries_problem(plain, now_ms):
+        raise BundleError(path, f"{entry_name(found[0])} {found[1]}")
     return entries

@@ -106,8 +106,7 @@ COLUMNS: dict[str, frozenset[str]] = {table: frozenset(checks) for table, checks
 _SEEN: dict[str, dict[str, set]] = {table: {name: set() for name in checks} for table, checks in CHECKS.items()}
 
 
-def row_problem(table: str, row_id: str, row: Any) -> str | None:
-    """What keeps a journalled row from being one a local write makes, or None."""
+def _shape_problem(table: str, row_id: str, row: Any) -> str | None:
     if not isinstance(row, dict):
         return "its values are not an object"
     if row.keys() != COLUMNS[table]:
@@ -115,32 +114,54 @@ def row_problem(table: str, row_id: str, row: Any) -> str | None:
         return f"its values do not name the columns of {table} (missing {missing}, unknown {extra})"
     if row["id"] != row_id:
         return f"its values are of record {str(row['id'])[:40]!r}, not of the record it names"
-    checks, seen = CHECKS[table], _SEEN[table]
+    value = row["id"]
+    if type(value) is not str or not 0 < len(value) <= 64 or value != value.strip():
+        return "id: at most 64 characters of text allowed"
+    return None
+
+
+def _column_problem(table: str, name: str, values: list) -> tuple[int, str] | None:
+    """(index, message) of the first value of one column a form would not write, or None.
+
+    Each distinct value is parsed once; texts and true ints already accepted are remembered. A
+    column mixing types (1, True, 1.0 are equal in a set) is checked value by value.
+    """
+    check, seen = CHECKS[table][name], _SEEN[table][name]
+    kinds = set(map(type, values))
+    kind = next(iter(kinds)) if len(kinds) == 1 else None
+    try:
+        distinct = set(values) if kind is not None else None
+    except TypeError:  # lists are not hashable
+        distinct = None
+    memo = kind is str or kind is int
+    todo = values if distinct is None else (distinct - seen if memo else distinct)
+    for value in todo:
+        if wrong := check(value):
+            at = next((i for i, v in enumerate(values) if type(v) is type(value) and (v is value or v == value)), 0)
+            return at, f"{name}: {wrong}"
+    if memo:
+        if len(seen) > 50_000:
+            seen.clear()
+        seen.update(todo)
+    return None
+
+
+def row_problem(table: str, row_id: str, row: Any) -> str | None:
+    """What keeps a journalled row from being one a local write makes, or None."""
+    if wrong := _shape_problem(table, row_id, row):
+        return wrong
     for name, value in row.items():
-        if name == "id":
-            if type(value) is not str or not 0 < len(value) <= 64 or value != value.strip():
-                return "id: at most 64 characters of text allowed"
-            continue
-        kind = type(value)  # only texts and true ints are memoised: 1 == True == 1.0 would mix types in a set
-        text = kind is str or kind is int
-        if text and value in seen[name]:
-            continue
-        if wrong := checks[name](value):
-            return f"{name}: {wrong}"
-        if text:
-            known = seen[name]
-            if len(known) > 50_000:
-                known.clear()
-            known.add(value)
+        if name != "id" and (wrong := _column_problem(table, name, [value])):
+            return wrong[1]
     return None
 
 
 def entry_problem(e: dict[str, Any], now_ms: int | None) -> str | None:
-    """What is wrong with one plain (insert/update/delete) entry's values, or None."""
+    """What is wrong with one plain entry's shape: operation, columns, ids, old row, stamp (values: see below)."""
     table, op = e["tbl"], e["op"]
     if table in APPEND_ONLY_TABLES and op != "insert":
         return f"{table} are append-only: a bundle may not {op} one"
-    if wrong := row_problem(table, e["row_id"], e["new"]):
+    if wrong := _shape_problem(table, e["row_id"], e["new"]):
         return f"new {wrong}"
     if op == "insert":
         if e["old"] is not None:
@@ -157,6 +178,22 @@ def entry_problem(e: dict[str, Any], now_ms: int | None) -> str | None:
         moment = datetime.fromtimestamp(int(e["hlc"][:15]) / 1000, UTC).isoformat(timespec="seconds")
         return (f"is stamped {moment}, {ahead / 3_600_000:.0f} h ahead of this store's clock (at most "
                 f"{MAX_SKEW_MS // 3_600_000} h allowed): set the sending tablet's clock, then make the bundle again")
+    return None
+
+
+def entries_problem(entries: list[dict[str, Any]], now_ms: int | None) -> tuple[dict[str, Any], str] | None:
+    """The first plain entry that is wrong and why, or None: every entry's shape, then every ``new``
+    value, column by column (each distinct value through its core parser once)."""
+    by_table: dict[str, list[dict[str, Any]]] = {}
+    for e in entries:
+        if wrong := entry_problem(e, now_ms):
+            return e, wrong
+        by_table.setdefault(e["tbl"], []).append(e)
+    for table, group in by_table.items():
+        rows = [e["new"] for e in group]
+        for name in CHECKS[table]:
+            if name != "id" and (wrong := _column_problem(table, name, [r[name] for r in rows])):
+                return group[wrong[0]], f"new {wrong[1]}"
     return None
 
 

@@ -90,6 +90,7 @@ GATE = [
     ("unknown_column", lambda es: first(es, "surveys")["new"].update(owner="x"), r"unknown \['owner'\]"),
     ("missing_column", lambda es: first(es, "surveys")["new"].pop("sky"), r"missing \['sky'\]"),
     ("text_not_stored_form", lambda es: first(es, "surveys")["new"].update(operator="  padded  "), "stored form"),
+    ("flag_as_json_true", lambda es: first(es, "leaks")["new"].update(hazard=True), "hazard: True has the wrong type"),
     ("huge_integer", lambda es: first(es, "actions")["new"].update(seq=2**60), "out of range"),
     ("old_values_never_held", _old_mismatch, "old area 'never was' was never a value"),
     ("action_deleted_by_bundle", _action_delete, "actions are append-only: a bundle may not delete"),
