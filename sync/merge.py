@@ -177,7 +177,14 @@ def merge_many(store: Store, paths: list[Path | str]) -> list[MergeResult]:
     try:
         with gc_paused(), store.transaction():
             conn.execute("PRAGMA defer_foreign_keys = ON")
-            results = [_apply(store, bundle, programs, media, written) for bundle in bundles]
+            try:
+                results = [_apply(store, bundle, programs, media, written) for bundle in bundles]
+            except (sqlite3.Error, KeyError, TypeError, ValueError) as exc:  # rolled back; still one clear line
+                if isinstance(exc, ValidationError):
+                    raise
+                raise BundleError(" + ".join(b.path.name for b in bundles),
+                                  f"could not be merged ({type(exc).__name__}: {str(exc)[:200]}); nothing was "
+                                  "changed") from None
             if problems := dangling_references(conn, written):
                 raise BundleError(" + ".join(b.path.name for b in bundles),
                                   f"would leave records pointing at nothing: {'; '.join(problems)}")
