@@ -25,6 +25,7 @@ from typing import Any
 
 from fieldapp import catalog
 from fieldapp.atomic import write_bytes
+from fieldapp.core.fields import FieldProblem, ValidationError
 from fieldapp.evidence.ingest import original_bytes
 from fieldapp.store.base import JOURNAL_COLUMNS, Store
 from sync import trust
@@ -111,7 +112,13 @@ def make_device_bundle(store: Store, out: Path, since: int | None = None) -> Bun
 
 
 def make_office_bundle(store: Store, out: Path, for_device: str) -> BundleSummary:
-    """Sites, inventory and user programs for a tablet, with the office's acknowledgement of its entries."""
+    """Sites, inventory and user programs for an enrolled tablet, with the office's acknowledgement of its entries."""
+    enrolled = store.conn.execute("SELECT revoked_at FROM devices WHERE device_id = ? AND role = 'tablet'",
+                                  (for_device,)).fetchone()
+    if enrolled is None or enrolled[0] is not None:
+        state = "is not enrolled here" if enrolled is None else f"was revoked at {enrolled[0]}"
+        raise ValidationError([FieldProblem("for_device", f"tablet {for_device} {state}: enrol it with "
+                                            "`plumebook enrol DEVICE_ID KEY --name NAME` first")])
     entries = _entries(store, f"tbl IN ({', '.join('?' * len(OFFICE_TABLES))}) AND device_id != ?",
                        (*OFFICE_TABLES, for_device))
     members = {"journal.jsonl": _journal_member(entries)}

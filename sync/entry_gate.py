@@ -27,6 +27,7 @@ from fieldapp.store.base import APPEND_ONLY_TABLES
 MAX_SKEW_MS = 24 * 3600 * 1000  # 24 h: more than any honest tablet clock drift, far less than a deadline
 MAX_INT = 2**53  # integers a JSON reader on any platform keeps exact; SQLite's 64-bit limit is far above
 Check = Callable[[Any], str | None]
+MEASURED_UNITS = ("kg/h", "lb/h", "scf/h", "m3/h")  # as the leak form allows (fieldapp/store/ops.py add_leak)
 
 
 def _stored_column(value: Any) -> str | None:
@@ -194,6 +195,9 @@ def entries_problem(entries: list[dict[str, Any]], now_ms: int | None) -> tuple[
         for name in CHECKS[table]:
             if name != "id" and (wrong := _column_problem(table, name, [r[name] for r in rows])):
                 return group[wrong[0]], f"new {wrong[1]}"
+    for e in by_table.get("leaks", ()):  # the one rule across fields that the leak form applies (store/ops.py)
+        if e["new"]["measured_rate"] is not None and e["new"]["measured_unit"] not in MEASURED_UNITS:
+            return e, f"new measured_unit: allowed with a measured rate: {', '.join(MEASURED_UNITS)}"
     return None
 
 

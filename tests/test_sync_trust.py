@@ -91,6 +91,8 @@ GATE = [
     ("missing_column", lambda es: first(es, "surveys")["new"].pop("sky"), r"missing \['sky'\]"),
     ("text_not_stored_form", lambda es: first(es, "surveys")["new"].update(operator="  padded  "), "stored form"),
     ("flag_as_json_true", lambda es: first(es, "leaks")["new"].update(hazard=True), "hazard: True has the wrong type"),
+    ("rate_without_unit", lambda es: first(es, "leaks")["new"].update(measured_rate=2.0, measured_unit="furlongs"),
+     "measured_unit: allowed with a measured rate"),
     ("huge_integer", lambda es: first(es, "actions")["new"].update(seq=2**60), "out of range"),
     ("old_values_never_held", _old_mismatch, "old area 'never was' was never a value"),
     ("action_deleted_by_bundle", _action_delete, "actions are append-only: a bundle may not delete"),
@@ -265,6 +267,11 @@ def test_tablet_merges_only_its_own_office(demo_store, office, good, tmp_path, m
         enrol(demo_store, other.device_id, public_key(other), "second office", "office")
     revoke(demo_store, office.device_id)
     refused(demo_store, make_office_bundle(office, tmp_path / "o.zip", demo_store.device_id).path, "revoked")
+    revoke(office, demo_store.device_id)  # and the office sends nothing to a revoked (or unknown) tablet
+    with pytest.raises(ValidationError, match="for_device: tablet .* was revoked at"):
+        make_office_bundle(office, tmp_path / "o2.zip", demo_store.device_id)
+    with pytest.raises(ValidationError, match="is not enrolled here"):
+        make_office_bundle(office, tmp_path / "o3.zip", other.device_id)
 
 
 def test_enrol_and_device_commands(demo_store, tmp_path, capsys):
