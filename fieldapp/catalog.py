@@ -36,18 +36,23 @@ def user_programs_dir() -> Path:
 
 def read_program_file(path: Path) -> Program:
     """Parse one program file; ValidationError naming the file and key if it is invalid."""
+    return parse_program_text(path.name, path.read_text(encoding="utf-8"))
+
+
+def parse_program_text(name: str, text: str) -> Program:
+    """Parse the text of a program file called ``name``; ValidationError naming the file and key."""
     try:
-        data = tomllib.loads(path.read_text(encoding="utf-8"))
+        data = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
-        raise ValidationError([FieldProblem(path.name, f"not valid TOML: {exc}")]) from None
+        raise ValidationError([FieldProblem(name, f"not valid TOML: {exc}")]) from None
     program, problems = parse_program(data)
     if program is not None:
         allowed = set(field_names(Survey))
-        problems = [FieldProblem("survey_records.required", f"{name!r} is not a survey field; allowed: "
+        problems = [FieldProblem("survey_records.required", f"{key!r} is not a survey field; allowed: "
                                  f"{', '.join(sorted(allowed))}")
-                    for name in program.required_survey_fields if name not in allowed]
+                    for key in program.required_survey_fields if key not in allowed]
     if problems:
-        raise ValidationError([FieldProblem(f"{path.name}: {p.field}", p.message) for p in problems])
+        raise ValidationError([FieldProblem(f"{name}: {p.field}", p.message) for p in problems])
     assert program is not None
     return program
 

@@ -8,6 +8,7 @@ from pathlib import Path
 from fieldapp.atomic import write_text
 from fieldapp.store.base import Store
 from fieldapp.store.due import due_list
+from sync.demo_sync import round_trip
 from sync.export import export_csv
 from sync.pdf_period import write_period_pdf
 from sync.pdf_survey import write_survey_pdf
@@ -15,7 +16,7 @@ from sync.tables import DUE_COLUMNS, due_rows, to_csv
 
 
 def write_demo_outputs(store: Store, folder: Path) -> Path:
-    """Write the due list, the CSV export, a survey report and a period summary into ``folder``."""
+    """Write the due list, the CSV export, a survey report, a period summary and a signed sync round trip."""
     folder.mkdir(parents=True, exist_ok=True)
     as_of = datetime.fromtimestamp(store.wall(), UTC).date()
     items, _problems = due_list(store, as_of)
@@ -26,4 +27,5 @@ def write_demo_outputs(store: Store, folder: Path) -> Path:
     if latest:
         write_survey_pdf(store, latest[0]["id"], folder / "survey-report.pdf")
     write_period_pdf(store, date(as_of.year, 1, 1), as_of, folder / "period-summary.pdf")
+    write_text(folder / "sync-round-trip.txt", "\n".join(round_trip(store, folder)) + "\n")
     return folder

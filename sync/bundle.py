@@ -7,6 +7,7 @@ Members::
     journal.jsonl   one journal entry per line (device_id, seq, hlc, at, actor, tbl, row_id, op, old, new)
     media/<sha256>  each original referenced by a media entry
     programs/<name>.toml   user program files (office bundles)
+    manifest.sig    the sender's Ed25519 signature of manifest.json, as hex (sync.trust)
 
 A device bundle holds the device's own entries after the sequence number the office last
 acknowledged (``--since auto``), so making it again after a failed hand-over repeats them all.
@@ -24,8 +25,10 @@ from typing import Any
 
 from fieldapp import catalog
 from fieldapp.atomic import write_bytes
-from fieldapp.evidence.ingest import library
+from fieldapp.core.fields import FieldProblem, ValidationError
+from fieldapp.evidence.ingest import original_bytes
 from fieldapp.store.base import JOURNAL_COLUMNS, Store
+from sync import trust
 
 FORMAT = "plumebook-bundle"
 VERSION = 1
@@ -75,12 +78,14 @@ def _media_hashes(entries: list[dict[str, Any]]) -> list[str]:
     return sorted({e["new"]["sha256"] for e in entries if e["tbl"] == "media" and e["new"]})
 
 
-def _zip(members: dict[str, bytes], manifest: dict[str, Any]) -> bytes:
+def _zip(store: Store, members: dict[str, bytes], manifest: dict[str, Any]) -> bytes:
     manifest["members"] = [{"name": name, "sha256": hashlib.sha256(data).hexdigest(), "size": len(data)}
                            for name, data in sorted(members.items())]
+    manifest_bytes = json.dumps(manifest, indent=1, sort_keys=True).encode("utf-8")
     out = io.BytesIO()
     with zipfile.ZipFile(out, "w", zipfile.ZIP_DEFLATED) as zf:
-        zf.writestr("manifest.json", json.dumps(manifest, indent=1, sort_keys=True))
+        zf.writestr("manifest.json", manifest_bytes)
+        zf.writestr("manifest.sig", trust.sign(store, manifest_bytes).hex() + "\n")
         for name, data in sorted(members.items()):
             kind = zipfile.ZIP_STORED if name.startswith("media/") else zipfile.ZIP_DEFLATED
             zf.writestr(zipfile.ZipInfo(name, date_time=(2000, 1, 1, 0, 0, 0)), data, compress_type=kind)
@@ -95,20 +100,25 @@ def make_device_bundle(store: Store, out: Path, since: int | None = None) -> Bun
     """Write this device's journal entries after ``since`` (default: the office's acknowledgement)."""
     start = acked_seq(store) if since is None else since
     entries = _entries(store, "device_id = ? AND seq > ?", (store.device_id, start))
-    lib = library(store)
     members = {"journal.jsonl": _journal_member(entries)}
     hashes = _media_hashes(entries)
     for sha in hashes:
-        members[f"media/{sha}"] = lib.original(sha).read_bytes()
+        members[f"media/{sha}"] = original_bytes(store, sha)
     seq_to = entries[-1]["seq"] if entries else start
     manifest = {"format": FORMAT, "version": VERSION, "kind": "device", "device_id": store.device_id,
                 "seq_from": start + 1, "seq_to": seq_to, "created_at": store.now_text(), "entries": len(entries)}
-    write_bytes(out, _zip(members, manifest))
+    write_bytes(out, _zip(store, members, manifest))
     return BundleSummary(Path(out), "device", store.device_id, start + 1, seq_to, len(entries), len(hashes))
 
 
 def make_office_bundle(store: Store, out: Path, for_device: str) -> BundleSummary:
-    """Sites, inventory and user programs for a tablet, with the office's acknowledgement of its entries."""
+    """Sites, inventory and user programs for an enrolled tablet, with the office's acknowledgement of its entries."""
+    enrolled = store.conn.execute("SELECT revoked_at FROM devices WHERE device_id = ? AND role = 'tablet'",
+                                  (for_device,)).fetchone()
+    if enrolled is None or enrolled[0] is not None:
+        state = "is not enrolled here" if enrolled is None else f"was revoked at {enrolled[0]}"
+        raise ValidationError([FieldProblem("for_device", f"tablet {for_device} {state}: enrol it with "
+                                            "`plumebook enrol DEVICE_ID KEY --name NAME` first")])
     entries = _entries(store, f"tbl IN ({', '.join('?' * len(OFFICE_TABLES))}) AND device_id != ?",
                        (*OFFICE_TABLES, for_device))
     members = {"journal.jsonl": _journal_member(entries)}
@@ -121,5 +131,5 @@ def make_office_bundle(store: Store, out: Path, for_device: str) -> BundleSummar
     manifest = {"format": FORMAT, "version": VERSION, "kind": "office", "device_id": store.device_id,
                 "for_device": for_device, "ack_seq": ack, "seq_from": 0, "seq_to": 0,
                 "created_at": store.now_text(), "entries": len(entries)}
-    write_bytes(out, _zip(members, manifest))
+    write_bytes(out, _zip(store, members, manifest))
     return BundleSummary(Path(out), "office", store.device_id, 0, 0, len(entries), 0)

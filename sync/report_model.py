@@ -146,6 +146,16 @@ class SurveyReport:
     gwp_set: str = GWP_SET
 
 
+def tag_cautions(store: Store, site_ids: set[str]) -> tuple[str, ...]:
+    """One caution per tag that two devices created at one of these sites, until it is resolved."""
+    from sync.merge import tag_collisions
+
+    return tuple(f"DUPLICATE TAG {c['tag']} at {c['site']}: {len(c['component_ids'])} components carry it (created "
+                 "on different devices). Their records are kept apart until someone resolves it with "
+                 "`plumebook resolve join` or `plumebook resolve retag`."
+                 for c in tag_collisions(store) if c["site_id"] in site_ids)
+
+
 def survey_report(store: Store, survey_id: str, as_of: date | None = None) -> SurveyReport:
     """The report model of one survey; deadlines are marked overdue as of ``as_of`` (default today, UTC)."""
     as_of = as_of or datetime.fromtimestamp(store.wall(), UTC).date()
@@ -164,8 +174,8 @@ def survey_report(store: Store, survey_id: str, as_of: date | None = None) -> Su
             methane[line.component_type] += line.methane_kg_per_h
     prog = {"id": program.id, "title": program.title, "rule": program.rule, "notice": program.notice}
     return SurveyReport(site, prog, survey, lines, dict(sorted(by_type.items())), dict(sorted(methane.items())),
-                        CAUTIONS, fingerprint(site, survey, [asdict(x) for x in lines]), store.now_text(),
-                        as_of.isoformat())
+                        CAUTIONS + tag_cautions(store, {site["id"]}),
+                        fingerprint(site, survey, [asdict(x) for x in lines]), store.now_text(), as_of.isoformat())
 
 
 @dataclass
@@ -232,6 +242,6 @@ def period_report(store: Store, start: date, end: date, site_id: str | None = No
             sum(1 for x in mine if x.state in ("repaired", "closed")), sum(1 for x in mine if x.state == "delayed"),
             sum(1 for x in mine if x.state in ("open", "attempted")), sum(1 for x in mine if x.state == "void"),
             overdue, kg, h[100] / 1000, h[20] / 1000))
-    return PeriodReport(start, end, convention, summaries, CAUTIONS,
+    return PeriodReport(start, end, convention, summaries, CAUTIONS + tag_cautions(store, {s["id"] for s in sites}),
                         fingerprint([asdict(s) for s in summaries], [asdict(x) for x in lines]), store.now_text(),
                         duration_rule=emissions.rule_text, not_estimated=tuple(skipped))

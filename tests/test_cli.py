@@ -23,6 +23,8 @@ def test_init_then_demo_prints_where_it_wrote(tmp_path, capsys, monkeypatch):
     assert code == 0
     assert "plumebook-demo-output" in out and "due.csv" in out
     assert (tmp_path / "plumebook-demo-output" / "due.csv").is_file()
+    trip = (tmp_path / "plumebook-demo-output" / "sync-round-trip.txt").read_text()
+    assert "signed bundle of" in trip and trip.endswith("same records and journal as the tablet: yes\n")
     code, out, _ = run(capsys, "--db", db, "sites", "--json")
     sites = json.loads(out)
     assert len(sites) == 4 and all("id" in s for s in sites)

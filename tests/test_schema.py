@@ -124,3 +124,25 @@ def test_version_7_file_upgrades_to_8_and_old_leaks_read_with_their_survey_metho
     assert items == {"first_attempt": "2026-12-05", "final_repair": "2026-12-20"}
     listed = reads.list_leaks(store)
     assert [row["state"] for row in listed] == ["open"]
+
+
+ADD_T1 = "INSERT INTO components (id, site_id, tag, type, service) VALUES ('{}', 's1', 'T-1', 'valve', 'gas')"
+
+
+def test_version_7_file_upgrades_to_non_unique_tags_and_a_devices_table(tmp_path):
+    """Migration 10: the (site, tag) index stops being unique (the merge keeps both records of a tag two
+    devices created) and the devices table for enrolled keys appears; rows are kept."""
+    path = tmp_path / "v7.db"
+    conn = sqlite3.connect(path, isolation_level=None)
+    schema.migrate(conn, target=7)
+    conn.execute("INSERT INTO sites (id, name, kind, program_id, timezone, methane_mole_fraction) "
+                 "VALUES ('s1', 'Old pad', 'well_site', 'us-nsps-oooo-a', 'America/Denver', 0.8)")
+    conn.execute(ADD_T1.format("c1"))
+    with pytest.raises(sqlite3.IntegrityError):
+        conn.execute(ADD_T1.format("c2"))
+    conn.close()
+    store = Store(path)
+    assert schema.current_version(store.conn) >= 10
+    store.conn.execute(ADD_T1.format("c2"))
+    assert store.conn.execute("SELECT COUNT(*) FROM components WHERE tag = 'T-1'").fetchone()[0] == 2
+    assert store.rows("SELECT * FROM devices") == []

@@ -144,11 +144,13 @@ def test_a_segment_set_on_a_tablet_reaches_the_office(demo_store, tmp_path):
     from fieldapp.store.base import Store
     from sync.bundle import make_device_bundle
     from sync.merge import merge
+    from sync.trust import enrol_each_other
     from tests.conftest import Wall
 
     site = demo_store.rows("SELECT id FROM sites WHERE name = 'Brackwater Tank Battery 1'")[0]["id"]
     ops.edit(demo_store, "sites", site, {"segment": "gathering_and_boosting"})
     office = Store(tmp_path / "office" / "store.db", actor="office", wall=Wall())
+    enrol_each_other(office, demo_store)
     merge(office, make_device_bundle(demo_store, tmp_path / "b.zip").path)
     assert office.get("sites", site)["segment"] == "gathering_and_boosting"
 

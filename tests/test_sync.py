@@ -20,6 +20,7 @@ from fieldapp.store.importer import import_components
 from sync.bundle import make_device_bundle, make_office_bundle, pending_changes
 from sync.dump import canonical, fingerprint
 from sync.merge import conflicts, merge, merge_many
+from sync.trust import enrol_each_other
 from tests.conftest import DEMO_NOW, SITE, Wall
 
 
@@ -27,8 +28,15 @@ def new_store(tmp_path, name, wall=None):
     return Store(tmp_path / name / "store.db", actor=name, wall=wall or Wall())
 
 
+def trusted(office, *tablets):
+    """Enrol each tablet at the office and the office on each tablet (bundles are signed)."""
+    for tablet in tablets:
+        enrol_each_other(office, tablet)
+    return office
+
+
 def test_round_trip_reproduces_every_record_and_media_file(demo_store, tmp_path):
-    office = new_store(tmp_path, "office")
+    office = trusted(new_store(tmp_path, "office"), demo_store)
     bundle = make_device_bundle(demo_store, tmp_path / "b.zip")
     result = merge(office, bundle.path)
     assert result.media == 22  # one photo per demo leak; 22 since the AVO-found leak of issue 11
@@ -39,7 +47,7 @@ def test_round_trip_reproduces_every_record_and_media_file(demo_store, tmp_path)
 
 
 def test_merging_twice_changes_nothing(demo_store, tmp_path):
-    office = new_store(tmp_path, "office")
+    office = trusted(new_store(tmp_path, "office"), demo_store)
     path = make_device_bundle(demo_store, tmp_path / "b.zip").path
     merge(office, path)
     before = fingerprint(office)
@@ -61,6 +69,7 @@ def three_devices(tmp_path):
     tablets = []
     for i in range(3):
         tablet = new_store(tmp_path, f"tablet{i}", Wall())
+        trusted(office, tablet)
         merge(tablet, make_office_bundle(office, tmp_path / f"o{i}.zip", tablet.device_id).path)
         tablets.append(tablet)
     tablets[0].wall.advance(10)
@@ -94,7 +103,7 @@ def test_three_devices_in_every_order_give_the_same_office_state(tmp_path):
 
 
 def test_office_bundle_acknowledges_the_tablets_entries(demo_store, tmp_path):
-    office = new_store(tmp_path, "office")
+    office = trusted(new_store(tmp_path, "office"), demo_store)
     # every record change counts, the imported inventory once per component
     records = sum(demo_store.conn.execute(f"SELECT COUNT(*) FROM {t}").fetchone()[0]
                   for t in ("sites", "components", "surveys", "leaks", "actions", "media", "markers"))
@@ -201,7 +210,7 @@ HOSTILE = ["truncated", "flipped_byte", "hash_mismatch", "size_mismatch", "absol
 
 @pytest.mark.parametrize("kind", HOSTILE)
 def test_hostile_bundle_is_refused_and_changes_nothing(demo_store, tmp_path, kind):
-    office = new_store(tmp_path, "office")
+    office = trusted(new_store(tmp_path, "office"), demo_store)
     good = make_device_bundle(demo_store, tmp_path / "good.zip").path
     bad = hostile(kind, good, tmp_path)
     before = fingerprint(office)
@@ -212,7 +221,7 @@ def test_hostile_bundle_is_refused_and_changes_nothing(demo_store, tmp_path, kin
 
 
 def test_out_of_order_replay_is_refused(demo_store, tmp_path):
-    office = new_store(tmp_path, "office")
+    office = trusted(new_store(tmp_path, "office"), demo_store)
     first = make_device_bundle(demo_store, tmp_path / "b1.zip", since=0)
     ops.add_site(demo_store, {**SITE, "name": "Another pad"})
     second = make_device_bundle(demo_store, tmp_path / "b2.zip", since=first.seq_to)
@@ -231,7 +240,7 @@ def test_several_bundles_merge_in_one_transaction(demo_store, tmp_path):
     first = make_device_bundle(demo_store, tmp_path / "b1.zip", since=0)
     ops.add_site(demo_store, {**SITE, "name": "Another pad"})
     second = make_device_bundle(demo_store, tmp_path / "b2.zip", since=first.seq_to)
-    office = new_store(tmp_path, "office")
+    office = trusted(new_store(tmp_path, "office"), demo_store)
     before = fingerprint(office)
     bad = hostile("flipped_byte", first.path, tmp_path)
     with pytest.raises(ValidationError, match="bundle"):
@@ -254,6 +263,7 @@ def test_an_imported_inventory_edited_on_two_devices_merges_field_by_field(tmp_p
     csv_file.write_text("tag,type,service\n" + "".join(f"V-{i},valve,gas\n" for i in range(50)))
     import_components(office, csv_file, site.id)
     for tablet in (a, b):
+        trusted(office, tablet)
         merge(tablet, make_office_bundle(office, tmp_path / f"to-{tablet.actor}.zip", tablet.device_id).path)
     target = a.rows("SELECT id FROM components WHERE tag = 'V-25'")[0]["id"]
     ops.edit(a, "components", target, {"area": "east"})
@@ -269,6 +279,7 @@ def test_bundle_commands(demo_store, tmp_path, capsys):
     from fieldapp.cli import main
 
     office = tmp_path / "office.db"
+    trusted(Store(office), demo_store)
     out = tmp_path / "cli.zip"
     assert main(["--db", str(demo_store.path), "bundle", "make", "--out", str(out)]) == 0
     assert main(["--db", str(office), "bundle", "merge", str(out), str(out)]) == 0
@@ -316,7 +327,7 @@ def test_round_trip_record_store_bundle_office_csv(tmp_path_factory, leaks):
             values["screening_ppm"] = leak["ppm"]
         ops.add_leak(tablet, values, new_component={"tag": leak["tag"], "type": leak["type"],
                                                      "service": leak["service"]})
-    office = Store(folder / "o" / "o.db", wall=Wall())
+    office = trusted(Store(folder / "o" / "o.db", wall=Wall()), tablet)
     merge(office, make_device_bundle(tablet, folder / "b.zip").path)
     assert leak_table(office) == leak_table(tablet)
     export_csv(office, folder / "csv")

@@ -353,6 +353,9 @@ def test_receive_from_office_applies_an_office_bundle(make_app, tmp_path, window
 
     app = make_app()
     office = Store(tmp_path / "office" / "office.db", actor="office", wall=Wall())
+    from sync.trust import enrol_each_other
+
+    enrol_each_other(office, app.store)  # bundles are signed: the tablet and its office know each other
     merge(office, make_device_bundle(app.store, tmp_path / "day.zip").path)
     pad = office.rows("SELECT id FROM sites WHERE name = 'Orrel Mesa Pad 2'")[0]["id"]
     ops.add_component(office, {"site_id": pad, "tag": "OM2-OFFICE-1", "type": "flange", "service": "gas"})

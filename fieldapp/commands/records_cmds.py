@@ -62,6 +62,7 @@ def _remove_store(path: Path) -> None:
     for suffix in ("", "-wal", "-shm"):
         Path(f"{path}{suffix}").unlink(missing_ok=True)
     shutil.rmtree(path.parent / f"{path.stem}-media", ignore_errors=True)
+    shutil.rmtree(path.parent / f"{path.stem}-keys", ignore_errors=True)
 
 
 def has_display() -> bool:

@@ -1,4 +1,4 @@
-"""Commands for device bundles and the office merge: bundle make, bundle merge, conflicts."""
+"""Commands for bundles and the office merge: bundle make/merge, conflicts, resolve, device, enrol, revoke."""
 
 from __future__ import annotations
 
@@ -24,8 +24,30 @@ def register(sub: argparse._SubParsersAction) -> None:
     c = sub.add_parser("conflicts", help="concurrent edits resolved by the merge rule")
     c.add_argument("--json", action="store_true")
     c.set_defaults(handler=cmd_conflicts)
-    d = sub.add_parser("device", help="this store's device id")
+    d = sub.add_parser("device", help="this store's device id and public key")
     d.set_defaults(handler=cmd_device)
+    r = sub.add_parser("resolve", help="resolve a tag collision between two devices")
+    how = r.add_subparsers(dest="how", required=True, metavar="HOW")
+    j = how.add_parser("join", help="one component tagged twice: move DROP's leaks to KEEP, tombstone DROP")
+    j.add_argument("keep")
+    j.add_argument("drop")
+    j.set_defaults(handler=cmd_join)
+    t = how.add_parser("retag", help="two different components: give one a new tag")
+    t.add_argument("component")
+    t.add_argument("tag")
+    t.set_defaults(handler=cmd_retag)
+    e = sub.add_parser("enrol", help="trust a device's public key (office: a tablet; tablet: its office)")
+    e.add_argument("device_id")
+    e.add_argument("public_key", help="64 hex digits, or the path of the device's device.pub file")
+    e.add_argument("--name", required=True, help="a name people know the device by")
+    e.add_argument("--role", choices=("tablet", "office"), default="tablet")
+    e.set_defaults(handler=cmd_enrol)
+    v = sub.add_parser("revoke", help="stop trusting a device (a lost tablet)")
+    v.add_argument("device_id")
+    v.set_defaults(handler=cmd_revoke)
+    ds = sub.add_parser("devices", help="enrolled devices")
+    ds.add_argument("--json", action="store_true")
+    ds.set_defaults(handler=cmd_devices)
 
 
 def cmd_make(args: argparse.Namespace) -> int:
@@ -56,20 +78,75 @@ def cmd_merge(args: argparse.Namespace) -> int:
               f"rebuilt, {r.media} media files, {r.conflicts} conflicts")
         for note in r.notes:
             print(f"  {note}")
+        if r.collisions:
+            print(f"  {r.collisions} tag collision(s) between devices: see `plumebook conflicts`")
     return 0
 
 
 def cmd_conflicts(args: argparse.Namespace) -> int:
-    from sync.merge import conflicts
+    from sync.merge import conflicts, tag_collisions
 
-    rows = conflicts(open_store(args))
+    store = open_store(args)
+    rows, collisions = conflicts(store), tag_collisions(store)
     if args.json:
-        emit_json(rows)
-    else:
-        emit_table(rows, ("tbl", "row_id", "field", "winner_value", "winner_device", "loser_value", "loser_device"))
+        emit_json({"field_conflicts": rows, "tag_collisions": collisions})
+        return 0
+    emit_table(rows, ("tbl", "row_id", "field", "winner_value", "winner_device", "loser_value", "loser_device"))
+    if collisions:
+        print("\ntag collisions (two devices created the same tag; resolve with `plumebook resolve join KEEP DROP` "
+              "or `plumebook resolve retag ID NEW_TAG`):")
+        emit_table([{**c, "component_ids": " ".join(c["component_ids"])} for c in collisions],
+                   ("site", "tag", "component_ids"))
     return 0
 
 
 def cmd_device(args: argparse.Namespace) -> int:
-    print(open_store(args).device_id)
+    from sync.trust import key_folder, public_key
+
+    store = open_store(args)
+    print(store.device_id)
+    print(f"public key {public_key(store)} (key files in {key_folder(store)})")
+    return 0
+
+
+def cmd_join(args: argparse.Namespace) -> int:
+    from fieldapp.store.resolve import join
+
+    done = join(open_store(args), args.keep, args.drop, args.actor)
+    print(f"joined {done['dropped']} into {done['kept']} (tag {done['tag']}), {done['leaks_moved']} leak(s) moved")
+    return 0
+
+
+def cmd_retag(args: argparse.Namespace) -> int:
+    from fieldapp.store.resolve import retag
+
+    row = retag(open_store(args), args.component, args.tag, args.actor)
+    print(f"component {row['id']} is now tag {row['tag']}")
+    return 0
+
+
+def cmd_enrol(args: argparse.Namespace) -> int:
+    from sync.trust import enrol
+
+    row = enrol(open_store(args), args.device_id, args.public_key, args.name, args.role)
+    print(f"enrolled {row['role']} {row['name']!r} ({row['device_id']})")
+    return 0
+
+
+def cmd_revoke(args: argparse.Namespace) -> int:
+    from sync.trust import revoke
+
+    row = revoke(open_store(args), args.device_id)
+    print(f"revoked {row['role']} {row['name']!r} ({row['device_id']}) at {row['revoked_at']}: its bundles are refused")
+    return 0
+
+
+def cmd_devices(args: argparse.Namespace) -> int:
+    from sync.trust import devices
+
+    rows = devices(open_store(args))
+    if args.json:
+        emit_json(rows)
+    else:
+        emit_table(rows, ("role", "name", "device_id", "enrolled_at", "revoked_at"))
     return 0

@@ -28,6 +28,19 @@ def library(store: Store) -> Library:
     return Library(store.path)
 
 
+def original_bytes(store: Store, sha: str) -> bytes:
+    """The bytes of one original; ValidationError naming the media folder (or file) when it is missing."""
+    lib = library(store)
+    if not lib.originals.is_dir():
+        raise ValidationError([FieldProblem("media folder", f"{lib.originals} is missing: copy the store's media "
+                                            f"folder ({lib.root.name}/) beside {store.path.name} and try again")])
+    path = lib.original(sha)
+    if not path.is_file():
+        raise ValidationError([FieldProblem("media folder", f"original {path} is missing: restore it from a backup "
+                                            "of the media folder (`plumebook verify` lists every missing file)")])
+    return path.read_bytes()
+
+
 def _parse(cls: type, values: dict[str, Any]) -> Any:
     record, problems = parse_record(cls, values)
     if problems:
@@ -204,7 +217,7 @@ def ensure(store: Store, media: dict[str, Any], kind: str) -> Path:
         return path
     path = lib.derivative(sha, kind)
     if not path.exists():
-        copies = derivatives.make(lib.original(sha).read_bytes(), media.get("original_name", ""))
+        copies = derivatives.make(original_bytes(store, sha), media.get("original_name", ""))
         for name, blob in copies.items():
             write_bytes(lib.derivative(sha, name), blob)
     return path

@@ -6,7 +6,6 @@ These are the functions the CLI and the tablet screens call.
 
 from __future__ import annotations
 
-import sqlite3
 from collections.abc import Mapping
 from datetime import UTC, date, datetime
 from typing import Any
@@ -57,13 +56,20 @@ def _record(cls: type, row: Mapping[str, Any]) -> Any:
     return record
 
 
+def tag_in_use(store: Store, site_id: str, tag: str, own_id: str = "") -> bool:
+    """True when another live component of the site has this tag.
+
+    Checked here, not by a unique index: two devices can create the same tag independently, and the
+    merge must keep both (listed by ``plumebook conflicts`` until resolved; migration 10).
+    """
+    return store.conn.execute("SELECT 1 FROM components WHERE site_id = ? AND tag = ? AND deleted = 0 AND id != ?",
+                              (site_id, tag, own_id)).fetchone() is not None
+
+
 def _insert(store: Store, table: str, record: Any, actor: str) -> None:
-    try:
-        store.insert(table, as_plain(record), actor)
-    except sqlite3.IntegrityError as exc:
-        if "components.site_id, components.tag" in str(exc):
-            raise ValidationError([FieldProblem("tag", f"{record.tag!r} is already used at this site")]) from None
-        raise
+    if table == "components" and tag_in_use(store, record.site_id, record.tag, record.id):
+        raise ValidationError([FieldProblem("tag", f"{record.tag!r} is already used at this site")])
+    store.insert(table, as_plain(record), actor)
 
 
 def add_site(store: Store, values: Mapping[str, Any], actor: str = "") -> Site:
@@ -262,12 +268,10 @@ def edit(store: Store, table: str, row_id: str, changes: Mapping[str, Any], acto
         _check_kind(updated)
     plain = as_plain(updated)
     with store.transaction():
-        try:
-            return store.update(table, row_id, {k: plain[k] for k in changes}, actor)
-        except sqlite3.IntegrityError as exc:
-            if "components.site_id, components.tag" in str(exc):
-                raise ValidationError([FieldProblem("tag", "is already used at this site")]) from None
-            raise
+        moved = table == "components" and {"tag", "site_id"} & set(changes)
+        if moved and tag_in_use(store, plain["site_id"], plain["tag"], row_id):
+            raise ValidationError([FieldProblem("tag", "is already used at this site")])
+        return store.update(table, row_id, {k: plain[k] for k in changes}, actor)
 
 
 def delete(store: Store, table: str, row_id: str, actor: str = "") -> None:

@@ -200,6 +200,24 @@ def _v9(conn: sqlite3.Connection) -> None:
     run_script(conn, "ALTER TABLE sites ADD COLUMN segment TEXT;")
 
 
+@migration(10, "tag collisions from merges, enrolled devices")
+def _v10(conn: sqlite3.Connection) -> None:
+    """Two devices may create the same tag at a site; the merge keeps both (listed as a collision
+    until joined or re-tagged), so the (site, tag) index is no longer unique. Local writes still
+    refuse a tag in use (fieldapp.store.ops). ``devices`` holds the public keys of enrolled tablets
+    (at the office) and of the office (on a tablet)."""
+    run_script(
+        conn,
+        """
+        DROP INDEX components_site_tag;
+        CREATE INDEX components_site_tag_live ON components(site_id, tag) WHERE deleted = 0;
+        CREATE TABLE devices (
+            device_id TEXT PRIMARY KEY, name TEXT NOT NULL, role TEXT NOT NULL CHECK (role IN ('tablet', 'office')),
+            public_key TEXT NOT NULL, enrolled_at TEXT NOT NULL, revoked_at TEXT);
+        """,
+    )
+
+
 @migration(11, "survey conditions as entered, with their units")
 def _v11(conn: sqlite3.Connection) -> None:
     # the canonical columns (ambient_temp_c, wind_*_m_s) stay what every rule and report reads; these
