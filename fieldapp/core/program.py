@@ -469,8 +469,12 @@ def cited_values(program: Program) -> list[dict[str, Any]]:
         rule("initial_survey", program.initial_survey)
     for i, insp in enumerate(program.inspections):
         kinds = ", ".join(k.value for k in insp.site_kinds)
-        add(f"inspections[{i}]", f"{kinds}: {insp.frequency} {'/'.join(m.value for m in insp.satisfied_by())}"
-            + (f"; {insp.reading}" if insp.reading else ""), insp.citation, insp.status)
+        add(f"inspections[{i}]", f"{kinds}: {insp.frequency} {'/'.join(m.value for m in insp.satisfied_by())}",
+            insp.citation, insp.status)
+        if insp.reading:
+            # the latest date chosen where the rule gives none is an interpretation, never rule text
+            add(f"inspections[{i}].reading", insp.reading, f"plumebook's reading of '{insp.frequency}' in "
+                f"{program.rule}; the program file may choose another (see its note)", "company")
     for i, tier in enumerate(program.repair_tiers):
         for kind, r in tier.rules.items():
             rule(f"repair_tiers[{i}].{kind}", r)
