@@ -18,6 +18,7 @@ from fieldapp.store.base import Store, new_ids
 from fieldapp.store.due import leak_items, survey_items
 
 TODAY = date(2026, 12, 1)
+# OOOOa as shipped: resurvey and re-repair fall on the final-repair deadline (40 CFR 60.5397a(h)(2), (h)(4)).
 BASELINE_SQL = """
 WITH ol AS MATERIALIZED (
   SELECT l.id, substr(l.detected_at, 1, 10) AS det, s.name AS site_name, c.tag,
@@ -45,10 +46,12 @@ SELECT id, 'final_repair', date(min(coalesce(fa, '9999-12-31'), date(det, '+30 d
   site_name, tag, repeat_leaker
   FROM agg WHERE first_rep IS NULL AND coalesce(last_kind, '') != 'delay_of_repair'
 UNION ALL
-SELECT id, 'resurvey', date(last_rep, '+30 days'), site_name, tag, repeat_leaker FROM agg
+SELECT id, 'resurvey', date(min(coalesce(fa, '9999-12-31'), date(det, '+30 days')), '+30 days'),
+  site_name, tag, repeat_leaker FROM agg
   WHERE last_rep IS NOT NULL AND (resurveyed IS NULL OR resurveyed < last_rep)
 UNION ALL
-SELECT id, 're_repair', date(failed, '+30 days'), site_name, tag, repeat_leaker FROM agg
+SELECT id, 're_repair', date(min(coalesce(fa, '9999-12-31'), date(det, '+30 days')), '+30 days'),
+  site_name, tag, repeat_leaker FROM agg
   WHERE failed IS NOT NULL AND (last_rep IS NULL OR last_rep <= failed)
   AND coalesce(last_kind, '') != 'delay_of_repair'
 UNION ALL
