@@ -96,6 +96,8 @@ def _print_program(program) -> None:
     for i in program.inspections:
         kinds = ", ".join(k.value for k in i.site_kinds)
         print(f"inspection {i.frequency} {i.method.value}: {kinds}  ({i.citation}; {i.status})")
+        if i.reading:
+            print(f"  latest date: {i.reading}  (our reading; company)")
     for tier in program.repair_tiers:
         print(f"repair, {tier.label}:")
         for rule in tier.rules.values():
@@ -104,6 +106,10 @@ def _print_program(program) -> None:
         cap = program.delay.cap.describe() if program.delay.cap else "none"
         print(f"delay of repair: until shutdown={program.delay.until_shutdown}, cap {cap}  "
               f"({program.delay.citation}; {program.delay.status})")
+        parts = program.delay.parts
+        if parts:
+            print(f"delay of repair for parts: {parts.order.describe()}; {parts.repair.describe()}  "
+                  f"({parts.citation}; {parts.status})")
 
 
 def _action(kind: str, on, **extra):
