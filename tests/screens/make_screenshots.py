@@ -24,6 +24,7 @@ def main() -> None:
     parser.add_argument("out", nargs="?", default="screenshots/out", type=Path)
     parser.add_argument("--db", type=Path)
     args = parser.parse_args()
+    args.out.mkdir(parents=True, exist_ok=True)  # `app --screenshot` refuses a missing folder
     env = {**os.environ, "KIVY_NO_CONSOLELOG": "1", "SDL_VIDEODRIVER": "offscreen", "KIVY_WINDOW": "sdl2"}
     env.pop("DISPLAY", None)
     tmp = tempfile.mkdtemp(prefix="plumebook-shots-")

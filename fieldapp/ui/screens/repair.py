@@ -20,7 +20,7 @@ from fieldapp.ui.widgets import Banner, BigButton, Para
 NEXT = {  # actions offered in each state, most likely first
     "open": ("first_attempt", "repaired", "delay_of_repair", "voided"),
     "attempted": ("repaired", "first_attempt", "delay_of_repair", "voided"),
-    "delayed": ("repaired", "first_attempt", "voided"),
+    "delayed": ("repaired", "first_attempt", "delay_of_repair", "voided"),  # again: e.g. the part has arrived
     "repaired": ("resurvey_passed", "resurvey_failed", "voided"),
     "closed": (), "void": (),
 }
@@ -81,6 +81,10 @@ class RepairScreen(FormScreen):
             Spec("planned_on", "Planned repair date (delay)", "date"),
             Spec("shutdown_on", "Next scheduled shutdown (delay)", "date"),
             Spec("instrument", "Resurvey instrument", "text"),
+            Spec("method", "Resurvey method", "choice", ("ogi", "method21", "avo")),
+            Spec("delay_kind", "Delay route (shutdown, or waiting for parts)", "choice", ("shutdown", "parts")),
+            Spec("parts_ordered_on", "Replacement ordered on (parts)", "date"),
+            Spec("parts_received_on", "Replacement received on (parts)", "date"),
         ], on_change=self.changed)
         self.form.set_values({"done_on": today.isoformat()})
         body.add_widget(self.form)
