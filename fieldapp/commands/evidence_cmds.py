@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import argparse
 
-from fieldapp.cli import emit_json, emit_table, open_store, parse_number
+from fieldapp.cmdkit import emit_json, emit_table, open_store, parse_number
 from fieldapp.core.fields import FieldProblem, ValidationError
 
 

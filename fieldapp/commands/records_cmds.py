@@ -6,7 +6,7 @@ import argparse
 import os
 from pathlib import Path
 
-from fieldapp.cli import emit_json, emit_table, open_store, required_text
+from fieldapp.cmdkit import emit_json, emit_table, open_store, required_text
 
 MIN_SIDE, MAX_SIDE = 100, 8192  # screenshot size limits in pixels
 

@@ -7,7 +7,7 @@ import dataclasses
 import uuid
 from datetime import UTC, datetime
 
-from fieldapp.cli import emit_json, emit_table, open_store, parse_day, parse_number, parse_whole, required_text
+from fieldapp.cmdkit import emit_json, emit_table, open_store, parse_day, parse_number, parse_whole, required_text
 
 MAX_PPM = 1_000_000  # ppmv: the whole sample
 MAX_WITHIN_DAYS = 36_500
