@@ -8,7 +8,6 @@ internal error (one line giving the file the full trace was written to). See ``f
 from __future__ import annotations
 
 import argparse
-import os
 import sys
 from collections.abc import Callable, Sequence
 from pathlib import Path
@@ -47,8 +46,8 @@ def build_parser() -> argparse.ArgumentParser:
     parser = Parser(prog="plumebook", description="Field records for OGI leak surveys.")
     parser.add_argument("--db", type=Path, default=None, help="store file (default: $PLUMEBOOK_DB or the "
                         "user data folder)")
-    parser.add_argument("--actor", default=os.environ.get("PLUMEBOOK_ACTOR", os.environ.get("USER", "")),
-                        help="who is acting (journal entries carry it)")
+    parser.add_argument("--actor", default="", help="who is acting (journal entries carry it); default: "
+                        "$PLUMEBOOK_ACTOR, else the store's `plumebook config actor`, else the login name")
     sub = parser.add_subparsers(dest="command", required=True, metavar="COMMAND")
     commands.register(sub)
     return parser

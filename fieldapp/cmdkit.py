@@ -46,7 +46,40 @@ def open_store(args: argparse.Namespace):
     if not getattr(args, "creates_store", False) and str(path) != ":memory:" and not path.exists():
         raise ValidationError([FieldProblem("db", f"{path}: no store there; check --db, or create one with "
                                             "`plumebook init`")])
-    return Store(path, actor=args.actor)
+    store = Store(path, actor=args.actor or "")
+    resolve_actor(args, store)
+    return store
+
+
+def resolve_actor(args: argparse.Namespace, store) -> str:
+    """Who is acting: --actor (or $PLUMEBOOK_ACTOR), else the store's setting (`plumebook config actor`),
+    else the login name. Sets ``args.actor``, ``args.actor_source`` and ``store.actor``; never '?' or empty.
+    """
+    import getpass
+
+    from fieldapp.store.prefs import actor_setting
+
+    name, source = (args.actor or "").strip(), "--actor"
+    if not name and os.environ.get("PLUMEBOOK_ACTOR", "").strip():
+        name, source = os.environ["PLUMEBOOK_ACTOR"].strip(), "PLUMEBOOK_ACTOR"
+    if not name:
+        name, source = actor_setting(store), "store setting"
+    if not name:
+        try:
+            name, source = getpass.getuser().strip(), "login name"
+        except (OSError, KeyError, ImportError):
+            name = ""
+    if not name or name == "?":
+        raise ValidationError([FieldProblem("actor", "nobody is named as acting; give --actor NAME or set the "
+                                            "store's default with `plumebook config actor NAME`")])
+    args.actor, args.actor_source = name, source
+    store.actor = name
+    return name
+
+
+def say_actor(args: argparse.Namespace) -> None:
+    """Print who the journal will name for this write, and where the name came from."""
+    print(f"acting as {args.actor} ({getattr(args, 'actor_source', '--actor')})")
 
 
 def parse_day(text: str, field: str = "date") -> date:
@@ -96,7 +129,21 @@ def emit_table(rows: Sequence[dict[str, Any]], columns: Sequence[str]) -> None:
         print("(none)")
         return
     cells = [[("" if r.get(c) is None else str(r.get(c))) for c in columns] for r in rows]
-    widths = [min(48, max(len(c), *(len(row[i]) for row in cells))) for i, c in enumerate(columns)]
+    widths = [min(MAX_CELL, max(len(c), *(len(row[i]) for row in cells))) for i, c in enumerate(columns)]
     print("  ".join(c.ljust(w) for c, w in zip(columns, widths, strict=True)).rstrip())
     for row in cells:
-        print("  ".join(v[:w].ljust(w) for v, w in zip(row, widths, strict=True)).rstrip())
+        print("  ".join(clip(v, w).ljust(w) for v, w in zip(row, widths, strict=True)).rstrip())
+
+
+MAX_CELL = 48
+
+
+def clip(text: str, width: int) -> str:
+    """Text cut to ``width`` characters at a word boundary where one is near, ending with an ellipsis."""
+    if len(text) <= width:
+        return text
+    cut = text[:width - 1]
+    space = cut.rfind(" ")
+    if space >= width // 2:
+        cut = cut[:space]
+    return cut.rstrip(" ,;:") + "…"
