@@ -278,3 +278,54 @@ def test_cut_table_text_ends_with_an_ellipsis_at_a_word():
     assert cut.endswith("…") and len(cut) <= 48
     assert text.startswith(cut[:-1]) and text[len(cut) - 1] == " "  # cut at a word boundary
     assert clip("short", 48) == "short"
+
+
+# -- a leak's story -------------------------------------------------------------------------------------
+
+
+def test_history_of_the_demos_repaired_and_resurveyed_leak_lists_its_story_in_order(demo_store, capsys):
+    # TD-0007 (demo_site/scenario.toml): first attempt, repair, resurvey passed, and one photo.
+    assert main(["--db", str(demo_store.path), "history", "TD-0007", "--json"]) == 0
+    story = json.loads(capsys.readouterr().out)
+    whats = [(e["what"], (e["new"] or {}).get("kind")) for e in story["events"]]
+    assert whats == [("component", None), ("leak", None), ("media", None), ("action", "first_attempt"),
+                     ("action", "repaired"), ("action", "resurvey_passed")]
+    photo = story["events"][2]
+    sha = demo_store.rows("SELECT sha256 FROM media WHERE id = ?", (photo["row_id"],))[0]["sha256"]
+    assert photo["sha256"] == sha and len(sha) == 64
+    assert all(e["actor"] and e["device_id"] and e["recorded_at"] for e in story["events"])
+    days = [e["on"] for e in story["events"][1:]]
+    assert days == sorted(days)
+    assert main(["--db", str(demo_store.path), "history", "TD-0007"]) == 0
+    text = capsys.readouterr().out
+    assert text.index("first attempt") < text.index("repaired") < text.index("resurvey passed")
+    assert f"sha256 {sha}" in text
+
+
+def test_history_shows_edits_with_old_and_new_values_and_as_of(tmp_path, capsys):
+    from datetime import datetime
+    from zoneinfo import ZoneInfo
+
+    from tests.conftest import Wall
+
+    wall = Wall(datetime(2026, 3, 2, 20, 0, tzinfo=ZoneInfo("UTC")))
+    store = Store(tmp_path / "edit.db", actor=ACTOR, wall=wall)
+    site = ops.add_site(store, SITE, ACTOR)
+    comp = ops.add_component(store, {"site_id": site.id, "tag": "P-1", "type": "valve", "service": "gas"}, ACTOR)
+    survey, _ = ops.start_survey(store, {**START, "site_id": site.id, "ambient_temp_c": 5, "wind_max_m_s": 3,
+                                         "started_at": f"{DAY}T08:30:00-07:00"}, ACTOR)
+    leak = ops.add_leak(store, {"survey_id": survey.id, "component_id": comp.id, "screening_ppm": 500,
+                                "detected_at": f"{DAY}T09:00:00-07:00"}, actor=ACTOR)
+    wall.advance(10 * 86400)
+    ops.edit(store, "leaks", leak.id, {"screening_ppm": 900.0}, "Corrector (invented)")
+    store.close()
+    db = str(tmp_path / "edit.db")
+    assert main(["--db", db, "history", "P-1", "--json"]) == 0
+    story = json.loads(capsys.readouterr().out)
+    edit = [e for e in story["events"] if e["what"] == "edit"]
+    assert len(edit) == 1 and edit[0]["old"]["screening_ppm"] == 500.0 and edit[0]["new"]["screening_ppm"] == 900.0
+    assert "500.0 -> 900.0" in edit[0]["summary"] and edit[0]["actor"] == "Corrector (invented)"
+    assert main(["--db", db, "history", "P-1", "--as-of", "2026-03-05", "--json"]) == 0
+    then = json.loads(capsys.readouterr().out)
+    assert then["leak"]["screening_ppm"] == 500.0 and not [e for e in then["events"] if e["what"] == "edit"]
+    assert story["leak"]["screening_ppm"] == 900.0

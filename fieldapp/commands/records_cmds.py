@@ -36,8 +36,10 @@ def register(sub: argparse._SubParsersAction) -> None:
     p.add_argument("--json", action="store_true")
     p.set_defaults(handler=cmd_leaks)
 
-    p = sub.add_parser("history", help="journal of one record, oldest first")
-    p.add_argument("record_id")
+    p = sub.add_parser("history", help="a leak's whole story (or the journal of any record), oldest first")
+    p.add_argument("record_id", help="leak TAG (its open leak, or its only one), TAG@YYYY-MM-DD, or any record id")
+    p.add_argument("--site", help="site id or name, when the tag is used at several sites")
+    p.add_argument("--as-of", help="date YYYY-MM-DD: only what had been recorded by the end of that day (UTC)")
     p.add_argument("--json", action="store_true")
     p.set_defaults(handler=cmd_history)
 
@@ -152,9 +154,26 @@ def cmd_leaks(args: argparse.Namespace) -> int:
 
 
 def cmd_history(args: argparse.Namespace) -> int:
-    from fieldapp.store.history import history
+    from fieldapp.cmdkit import parse_day
+    from fieldapp.store.history import history, leak_timeline
+    from fieldapp.store.names import resolve_leak
 
-    entries = history(open_store(args), args.record_id)
+    as_of = parse_day(args.as_of, "--as-of").isoformat() if args.as_of is not None else None
+    store = open_store(args)
+    key = required_text(args.record_id, "record_id")
+    is_leak = store.rows("SELECT 1 FROM leaks WHERE id = ?", (key,))
+    other = not is_leak and store.rows("SELECT 1 FROM journal WHERE row_id = ? LIMIT 1", (key,))
+    if not other:
+        leak = resolve_leak(store, key, _site_id(store, args.site), "record_id", closed_too=True)
+        story = leak_timeline(store, leak["id"], as_of)
+        if args.json:
+            emit_json(story)
+        else:
+            print_story(story, leak)
+        return 0
+    entries = history(store, key)
+    if as_of:
+        entries = [e for e in entries if e["at"] <= f"{as_of}T99"]
     if args.json:
         emit_json(entries)
         return 0
@@ -168,6 +187,21 @@ def cmd_history(args: argparse.Namespace) -> int:
         print(f"{e['at']}  {e['op']:<6}  {e['tbl']:<10}  by {e['actor'] or '?'} on device "
               f"{e['device_id'][:8]} #{e['seq']}  {changed}")
     return 0
+
+
+def print_story(story: dict, leak: dict) -> None:
+    """A leak's timeline as text, one event a line, with who recorded it, when and on which device."""
+    comp = story["component"] or {}
+    state = "as recorded by the end of " + story["as_of"] if story["as_of"] else "now"
+    print(f"leak {leak['tag']} at {story['site']} ({comp.get('type')}, {comp.get('service')}), {state}; "
+          f"id {leak['id']}")
+    if (story["leak"] or {}).get("hazard"):
+        print("HAZARD: the leak may be large, near ignition or carry H2S; follow site procedures.")
+    for e in story["events"]:
+        late = f"  BACKDATED (keyed in {e['recorded_at'][:10]})" if e["backdated"] else ""
+        print(f"{e['on']} {e['at'] or '     '}  {e['what']:<9}  {e['summary']}")
+        print(f"{'':18}recorded {e['recorded_at']} by {e['actor'] or '(not named)'} on device "
+              f"{e['device_id'][:8]} #{e['seq']}{late}")
 
 
 def cmd_import_components(args: argparse.Namespace) -> int:

@@ -70,8 +70,12 @@ def _leak_label(row: dict[str, Any]) -> str:
     return f"{row['tag']}@{local_day(row['detected_at'], row['timezone'])} at {row['site_name']} ({state})"
 
 
-def resolve_leak(store: Store, key: str, site_id: str | None = None, field: str = "leak") -> dict[str, Any]:
-    """A live leak by id, ``TAG`` (its one open leak) or ``TAG@DATE``; the row carries tag, site and ``open``."""
+def resolve_leak(store: Store, key: str, site_id: str | None = None, field: str = "leak",
+                 closed_too: bool = False) -> dict[str, Any]:
+    """A live leak by id, ``TAG`` (its one open leak) or ``TAG@DATE``; the row carries tag, site and ``open``.
+
+    ``closed_too`` (for reading, e.g. history): a bare tag with no open leak names its only leak.
+    """
     rows = store.rows(LEAK_ROWS + " AND l.id = ?", (key,))
     if rows:
         return rows[0]
@@ -84,6 +88,8 @@ def resolve_leak(store: Store, key: str, site_id: str | None = None, field: str 
         found = [r for r in candidates if local_day(r["detected_at"], r["timezone"]) == day]
     else:
         found = [r for r in candidates if r["open"]]
+        if not found and closed_too and len(candidates) == 1:
+            found = candidates
     if len(found) == 1:
         return found[0]
     if found:
