@@ -329,3 +329,71 @@ def test_history_shows_edits_with_old_and_new_values_and_as_of(tmp_path, capsys)
     then = json.loads(capsys.readouterr().out)
     assert then["leak"]["screening_ppm"] == 500.0 and not [e for e in then["events"] if e["what"] == "edit"]
     assert story["leak"]["screening_ppm"] == 900.0
+
+
+# -- a contractor's work ---------------------------------------------------------------------------------
+
+WORK_HEADER = "tag,kind,date,who,instrument,method,note\n"
+
+
+def _two_leaks(db, capsys, same_tag: bool = False):
+    _start(db, capsys)
+    for tag, at in (("P-1", "09:00"), ("P-1" if same_tag else "P-2", "11:00")):
+        assert run(db, "leak", "add", "--survey", f"{SITE['name']}@{DAY}", "--tag", tag, "--detected-at",
+                   f"{DAY}T{at}", capsys=capsys)[0] == 0
+
+
+def _counts(db) -> tuple[int, int]:
+    store = Store(db)
+    try:
+        return (store.rows("SELECT COUNT(*) AS n FROM actions")[0]["n"],
+                store.rows("SELECT COUNT(*) AS n FROM journal")[0]["n"])
+    finally:
+        store.close()
+
+
+def test_contractor_work_applies_in_one_transaction_and_a_reimport_is_refused(fresh_db, tmp_path, capsys):
+    _two_leaks(fresh_db, capsys)
+    work = tmp_path / "work.csv"
+    work.write_text(WORK_HEADER + "P-1,first-attempt,2026-03-03,Tess Harrow (invented),,,tightened\n"
+                    "P-1,repaired,2026-03-04,Tess Harrow (invented),,,replaced packing\n"
+                    f"P-2@{DAY},repaired,2026-03-04,Tess Harrow (invented),,,\n"
+                    "P-1,resurvey_passed,2026-03-05,Tess Harrow (invented),camera S-1,ogi,\n", encoding="utf-8")
+    before = _counts(fresh_db)
+    code, out, err = run(fresh_db, "import", "work", str(work), capsys=capsys)
+    assert code == 0, err
+    assert "imported 4 action(s)" in out
+    after = _counts(fresh_db)
+    assert after == (before[0] + 4, before[1] + 4)
+    store = Store(fresh_db)
+    seqs = store.rows("SELECT seq FROM journal ORDER BY seq DESC LIMIT 4")
+    assert len({r["seq"] for r in seqs}) == 4
+    assert {r["actor"] for r in store.rows("SELECT actor FROM actions")} == {"Tess Harrow (invented)"}
+    store.close()
+    # Re-import: refused, every line named, nothing changes (tests the decision in fieldapp/store/work_import.py).
+    code, _out, err = run(fresh_db, "import", "work", str(work), capsys=capsys)
+    assert code == 2 and "already recorded" in err and "nothing was imported" in err
+    assert all(f"line {n}:" in err for n in (2, 3, 4, 5))
+    assert _counts(fresh_db) == after
+
+
+def test_contractor_work_with_one_bad_row_imports_nothing_and_names_the_line(fresh_db, tmp_path, capsys):
+    _two_leaks(fresh_db, capsys)
+    work = tmp_path / "work.csv"
+    work.write_text(WORK_HEADER + "P-1,first-attempt,2026-03-03,Tess Harrow (invented),,,\n"
+                    "P-2,repaired,2026-02-30,Tess Harrow (invented),,,\n"
+                    "P-1,repaired,2026-03-04,Tess Harrow (invented),,,\n", encoding="utf-8")
+    before = _counts(fresh_db)
+    code, _out, err = run(fresh_db, "import", "work", str(work), capsys=capsys)
+    assert code == 2 and "line 3: date:" in err and "nothing was imported" in err
+    assert "line 2:" not in err and "line 4:" not in err
+    assert _counts(fresh_db) == before
+
+
+def test_contractor_work_refuses_a_tag_with_several_open_leaks_naming_them(fresh_db, tmp_path, capsys):
+    _two_leaks(fresh_db, capsys, same_tag=True)
+    work = tmp_path / "work.csv"
+    work.write_text(WORK_HEADER + "P-1,repaired,2026-03-04,Tess Harrow (invented),,,\n", encoding="utf-8")
+    code, _out, err = run(fresh_db, "import", "work", str(work), capsys=capsys)
+    assert code == 2 and "line 2: tag: 'P-1' matches 2 open leaks" in err and err.count(f"P-1@{DAY}") >= 2
+    assert _counts(fresh_db)[0] == 0

@@ -49,6 +49,11 @@ def register(sub: argparse._SubParsersAction) -> None:
     c.add_argument("file", type=Path)
     c.add_argument("--site", required=True, help="site id or name")
     c.set_defaults(handler=cmd_import_components)
+    c = what.add_parser("work", help="a contractor's work: CSV of actions on leaks, all or nothing (columns in "
+                        "DEVELOPERS.md)")
+    c.add_argument("file", type=Path)
+    c.add_argument("--site", help="site id or name, when tags are used at several sites")
+    c.set_defaults(handler=cmd_import_work)
     register_app(sub)
 
 
@@ -215,6 +220,33 @@ def cmd_import_components(args: argparse.Namespace) -> int:
     site = resolve_site(store, args.site)
     count = import_components(store, args.file, site["id"], args.actor)
     print(f"imported {count} components into {site['name']}")
+    return 0
+
+
+def cmd_import_work(args: argparse.Namespace) -> int:
+    import sys
+
+    from fieldapp.cmdkit import say_actor
+    from fieldapp.core.fields import FieldProblem, ValidationError
+    from fieldapp.paths import input_file
+    from fieldapp.store.work_import import import_work
+
+    input_file(args.file, "file")
+    store = open_store(args)
+    site_id = _site_id(store, args.site)
+    try:
+        done = import_work(store, args.file, args.actor, site_id)
+    except ValidationError as exc:
+        for problem in exc.problems:  # every problem with its line, then the one-line summary
+            print(f"plumebook: {args.file.name}: {problem}", file=sys.stderr)
+        lines = sorted({p.line for p in exc.problems if p.line is not None})
+        raise ValidationError([FieldProblem("file", f"{len(exc.problems)} problem(s) on line(s) "
+                                            f"{', '.join(map(str, lines)) or '1'}; nothing was imported")]) from None
+    say_actor(args)
+    for row in done:
+        print(f"line {row['line']}: {row['kind'].replace('_', ' ')} of {row['tag']} at {row['site']} on "
+              f"{row['done_on']} by {row['who']}")
+    print(f"imported {len(done)} action(s) from {args.file.name} in one transaction")
     return 0
 
 
