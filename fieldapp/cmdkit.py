@@ -147,3 +147,17 @@ def clip(text: str, width: int) -> str:
     if space >= width // 2:
         cut = cut[:space]
     return cut.rstrip(" ,;:") + "…"
+
+
+def progress(total: int | None, what: str):
+    """A progress bar on stderr (tqdm) when stderr is a terminal; silent otherwise (CI, pipes, files).
+
+    Use as ``with progress(n, "rows") as bar: ... bar.update(1)``.
+    """
+    import sys
+
+    from tqdm import tqdm
+
+    interactive = hasattr(sys.stderr, "isatty") and sys.stderr.isatty()
+    return tqdm(total=total, desc=what, unit=" " + what.split()[-1], file=sys.stderr, disable=not interactive,
+                leave=False, dynamic_ncols=True)

@@ -397,3 +397,29 @@ def test_contractor_work_refuses_a_tag_with_several_open_leaks_naming_them(fresh
     code, _out, err = run(fresh_db, "import", "work", str(work), capsys=capsys)
     assert code == 2 and "line 2: tag: 'P-1' matches 2 open leaks" in err and err.count(f"P-1@{DAY}") >= 2
     assert _counts(fresh_db)[0] == 0
+
+
+def test_progress_is_silent_when_stderr_is_not_a_terminal(capsys):
+    from fieldapp.cmdkit import progress
+
+    with progress(3, "rows") as bar:
+        for _ in range(3):
+            bar.update(1)
+    assert capsys.readouterr().err == ""
+
+
+def test_progress_shows_on_a_terminal(monkeypatch):
+    import io
+    import sys
+
+    from fieldapp.cmdkit import progress
+
+    class Tty(io.StringIO):
+        def isatty(self):
+            return True
+
+    fake = Tty()
+    monkeypatch.setattr(sys, "stderr", fake)
+    with progress(3, "rows") as bar:
+        bar.update(3)
+    assert "3/3" in fake.getvalue()

@@ -226,7 +226,7 @@ def cmd_import_components(args: argparse.Namespace) -> int:
 def cmd_import_work(args: argparse.Namespace) -> int:
     import sys
 
-    from fieldapp.cmdkit import say_actor
+    from fieldapp.cmdkit import progress, say_actor
     from fieldapp.core.fields import FieldProblem, ValidationError
     from fieldapp.paths import input_file
     from fieldapp.store.work_import import import_work
@@ -235,7 +235,8 @@ def cmd_import_work(args: argparse.Namespace) -> int:
     store = open_store(args)
     site_id = _site_id(store, args.site)
     try:
-        done = import_work(store, args.file, args.actor, site_id)
+        with progress(None, "checking rows") as bar:
+            done = import_work(store, args.file, args.actor, site_id, bar.update)
     except ValidationError as exc:
         for problem in exc.problems:  # every problem with its line, then the one-line summary
             print(f"plumebook: {args.file.name}: {problem}", file=sys.stderr)
