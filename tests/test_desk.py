@@ -423,3 +423,16 @@ def test_progress_shows_on_a_terminal(monkeypatch):
     with progress(3, "rows") as bar:
         bar.update(3)
     assert "rows:" in fake.getvalue() and "/3" in fake.getvalue()
+
+
+def test_a_survey_day_with_two_surveys_is_refused_listing_both(fresh_db, capsys):
+    _start(fresh_db, capsys)
+    code, _out, err = run(fresh_db, "survey", "start", "--site", SITE["name"], "--started-at", f"{DAY}T13:30",
+                          *CONDITIONS, *[a for k, v in START.items() for a in (f"--{k.replace('_', '-')}", v)],
+                          capsys=capsys)
+    assert code == 0, err
+    code, _out, err = run(fresh_db, "leak", "add", "--survey", f"{SITE['name']}@{DAY}", "--tag", "P-1",
+                          capsys=capsys)
+    assert code == 2 and "matches 2 surveys" in err and "T08:30" in err and "T13:30" in err
+    code, _out, err = run(fresh_db, "survey", "end", "Nowhere@2026-03-02", "--no-deviations", capsys=capsys)
+    assert code == 2 and "site: 'Nowhere' is not a site id or name" in err and SITE["name"] in err

@@ -150,10 +150,10 @@ def cmd_leaks(args: argparse.Namespace) -> int:
     if args.json:
         emit_json(rows)
     else:
-        for r in rows:
-            r["repeat"] = "REPEAT LEAKER" if r["repeat_leaker"] else ""
-            r["hazard!"] = "HAZARD" if r["hazard"] else ""
-        emit_table(rows, ("detected_on", "site_name", "tag", "component_type", "state", "repeat", "hazard!",
+        for r in rows:  # the same column names and words as `plumebook due`
+            r["repeat leaker"] = "REPEAT LEAKER" if r["repeat_leaker"] else ""
+            r["hazard"] = "HAZARD" if r["hazard"] else ""
+        emit_table(rows, ("detected_on", "site_name", "tag", "component_type", "state", "hazard", "repeat leaker",
                           "id"))
     return 0
 
@@ -189,7 +189,7 @@ def cmd_history(args: argparse.Namespace) -> int:
                                 if e["old"].get(k) != v)
         elif e.get("batch_size"):
             changed = f"(one import of {e['batch_size']} records)"
-        print(f"{e['at']}  {e['op']:<6}  {e['tbl']:<10}  by {e['actor'] or '?'} on device "
+        print(f"{e['at']}  {e['op']:<6}  {e['tbl']:<10}  by {e['actor'] or '(not named)'} on device "
               f"{e['device_id'][:8]} #{e['seq']}  {changed}")
     return 0
 

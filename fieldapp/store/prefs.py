@@ -50,3 +50,16 @@ def set_actor(store: Store, name: str) -> str:
         store.conn.execute("INSERT INTO meta(key, value) VALUES (?, ?) ON CONFLICT(key) DO UPDATE SET "
                            "value = excluded.value", (ACTOR_KEY, name))
     return name
+
+
+def default_actor(store: Store) -> str:
+    """Who a write names when its caller names nobody: the store's setting, else the login name ('' if none)."""
+    import getpass
+
+    name = actor_setting(store)
+    if name:
+        return name
+    try:
+        return getpass.getuser().strip()
+    except (OSError, KeyError, ImportError):
+        return ""
