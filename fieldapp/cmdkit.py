@@ -53,7 +53,8 @@ def open_store(args: argparse.Namespace):
 
 def resolve_actor(args: argparse.Namespace, store) -> str:
     """Who is acting: --actor (or $PLUMEBOOK_ACTOR), else the store's setting (`plumebook config actor`),
-    else the login name. Sets ``args.actor``, ``args.actor_source`` and ``store.actor``; never '?' or empty.
+    else the login name. Sets ``args.actor``, ``args.actor_source`` and ``store.actor``. With no name at
+    all, reads go on and any write is refused (``Store.unnamed_refusal``): '?' or '' never reaches the journal.
     """
     import getpass
 
@@ -69,9 +70,10 @@ def resolve_actor(args: argparse.Namespace, store) -> str:
             name, source = getpass.getuser().strip(), "login name"
         except (OSError, KeyError, ImportError):
             name = ""
-    if not name or name == "?":
-        raise ValidationError([FieldProblem("actor", "nobody is named as acting; give --actor NAME or set the "
-                                            "store's default with `plumebook config actor NAME`")])
+    if not name or name == "?":  # reading is fine; a write is refused when it reaches the journal
+        store.unnamed_refusal = ("--actor", "nobody is named as acting; give --actor NAME or set the store's "
+                                 "default with `plumebook config actor NAME`")
+        name, source = "", "nobody"
     args.actor, args.actor_source = name, source
     store.actor = name
     return name

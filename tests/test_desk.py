@@ -219,9 +219,12 @@ def test_nobody_named_refuses_the_write(fresh_db, capsys, monkeypatch):
         raise OSError("no login name")
 
     monkeypatch.setattr("getpass.getuser", no_login)
-    code = main(["--db", str(fresh_db), "survey", "start", "--site", SITE["name"], "--method", "ogi",
-                 "--operator", OPERATOR])
-    assert code == 2 and "actor: nobody is named" in capsys.readouterr().err
+    before = _counts(fresh_db)
+    code = main(["--db", str(fresh_db), "survey", "start", "--site", SITE["name"], "--started-at", f"{DAY}T08:30",
+                 *CONDITIONS, *[a for k, v in START.items() for a in (f"--{k.replace('_', '-')}", v)]])
+    assert code == 2 and "--actor: nobody is named" in capsys.readouterr().err
+    assert _counts(fresh_db) == before
+    assert main(["--db", str(fresh_db), "sites", "--json"]) == 0  # reading needs no name
 
 
 # -- the due list warns -------------------------------------------------------------------------------

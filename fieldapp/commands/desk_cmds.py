@@ -25,7 +25,7 @@ OPTION_OF = {
     "ambient_temp_entered": "--temperature", "ambient_temp_c": "--temperature", "temp_unit": "--temp-unit",
     "wind_speed_entered": "--wind", "wind_speed_m_s": "--wind", "wind_max_entered": "--wind-max",
     "wind_max_m_s": "--wind-max", "wind_unit": "--wind-unit", "actor": "--by", "type": "--type",
-    "service": "--service", "kind": "kind", "seq": "kind",
+    "service": "--service", "--actor": "--actor", "kind": "kind", "seq": "kind",
 }
 
 ACTION_WORDS = {kind.value.replace("_", "-"): kind for kind in ActionKind}
