@@ -8,104 +8,24 @@ internal error (one line giving the file the full trace was written to). See ``f
 from __future__ import annotations
 
 import argparse
-import json
-import os
 import sys
 from collections.abc import Callable, Sequence
-from datetime import date
 from pathlib import Path
-from typing import Any
 
-from fieldapp.core.fields import (
-    FieldProblem,
-    FieldValueError,
-    ValidationError,
-    has_control,
-    is_blank,
-    iso_date,
-    number,
+from fieldapp.cmdkit import (  # noqa: F401 - re-exported for callers of the old names
+    default_db,
+    emit_json,
+    emit_table,
+    open_store,
+    parse_day,
+    parse_number,
+    parse_whole,
+    required_text,
 )
+from fieldapp.core.fields import FieldProblem, ValidationError, has_control
 
 Handler = Callable[[argparse.Namespace], int]
 COMMANDS: dict[str, Handler] = {}
-
-
-def default_db() -> Path:
-    """PLUMEBOOK_DB, or plumebook.db in the user's data folder."""
-    if os.environ.get("PLUMEBOOK_DB"):
-        return Path(os.environ["PLUMEBOOK_DB"])
-    from platformdirs import user_data_dir
-
-    return Path(user_data_dir("plumebook", appauthor=False)) / "plumebook.db"
-
-
-def open_store(args: argparse.Namespace):
-    """The store named by --db (a folder or a non-file there is refused with one line).
-
-    Only commands that set ``creates_store`` (init, demo, app, bundle merge) make a new store; the
-    others refuse a --db that does not exist, so a mistyped path never reads as an empty store.
-    """
-    from fieldapp.paths import store_file
-    from fieldapp.store.base import Store
-
-    path = store_file(args.db)
-    if not getattr(args, "creates_store", False) and str(path) != ":memory:" and not path.exists():
-        raise ValidationError([FieldProblem("db", f"{path}: no store there; check --db, or create one with "
-                                            "`plumebook init`")])
-    return Store(path, actor=args.actor)
-
-
-def parse_day(text: str, field: str = "date") -> date:
-    """A YYYY-MM-DD argument inside the supported dates (``fieldapp.core.fields.DATE_RANGE``)."""
-    try:
-        return iso_date(text)
-    except FieldValueError as exc:
-        raise ValidationError([FieldProblem(field, str(exc))]) from None
-
-
-def parse_number(text: str | None, field: str, low: float | None = 0.0, high: float | None = None) -> float | None:
-    """A finite number argument inside [low, high] (None when not given; nan, inf refused)."""
-    if text is None:
-        return None
-    try:
-        return number(low, high)(text)
-    except FieldValueError as exc:
-        raise ValidationError([FieldProblem(field, str(exc))]) from None
-
-
-def parse_whole(text: str | None, field: str, low: int = 0, high: int = 2**63 - 1) -> int | None:
-    """A whole-number argument inside [low, high] (None when not given)."""
-    if text is None:
-        return None
-    raw = str(text).strip()
-    if not raw.lstrip("-").isdigit() or len(raw) > 20 or not low <= int(raw) <= high:
-        raise ValidationError([FieldProblem(field, f"{raw[:40]!r} is not allowed; write a whole number from "
-                                            f"{low} to {high}")])
-    return int(raw)
-
-
-def required_text(text: str | None, field: str) -> str | None:
-    """An optional text argument that, when given, must not be empty (None when not given)."""
-    if text is not None and is_blank(text):
-        raise ValidationError([FieldProblem(field, "is empty; give a value or leave the option out")])
-    return text
-
-
-def emit_json(value: Any) -> None:
-    """Print JSON with dates as ISO text; NaN and infinity are never printed (ValueError, a bug)."""
-    print(json.dumps(value, indent=2, default=str, ensure_ascii=False, allow_nan=False))
-
-
-def emit_table(rows: Sequence[dict[str, Any]], columns: Sequence[str]) -> None:
-    """Print rows as an aligned text table."""
-    if not rows:
-        print("(none)")
-        return
-    cells = [[("" if r.get(c) is None else str(r.get(c))) for c in columns] for r in rows]
-    widths = [min(48, max(len(c), *(len(row[i]) for row in cells))) for i, c in enumerate(columns)]
-    print("  ".join(c.ljust(w) for c, w in zip(columns, widths, strict=True)).rstrip())
-    for row in cells:
-        print("  ".join(v[:w].ljust(w) for v, w in zip(row, widths, strict=True)).rstrip())
 
 
 class Parser(argparse.ArgumentParser):
@@ -126,8 +46,8 @@ def build_parser() -> argparse.ArgumentParser:
     parser = Parser(prog="plumebook", description="Field records for OGI leak surveys.")
     parser.add_argument("--db", type=Path, default=None, help="store file (default: $PLUMEBOOK_DB or the "
                         "user data folder)")
-    parser.add_argument("--actor", default=os.environ.get("PLUMEBOOK_ACTOR", os.environ.get("USER", "")),
-                        help="who is acting (journal entries carry it)")
+    parser.add_argument("--actor", default="", help="who is acting (journal entries carry it); default: "
+                        "$PLUMEBOOK_ACTOR, else the store's `plumebook config actor`, else the login name")
     sub = parser.add_subparsers(dest="command", required=True, metavar="COMMAND")
     commands.register(sub)
     return parser

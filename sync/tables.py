@@ -11,16 +11,35 @@ from typing import Any
 from fieldapp.core.due import DueItem
 
 DUE_COLUMNS = ("standing", "kind", "due", "days_left", "earliest", "site", "site_id", "method", "tag",
-               "component_type", "leak_id", "repeat_leaker", "rule", "citation", "status", "note")
+               "component_type", "leak_id", "hazard", "repeat_leaker", "rule", "citation", "status", "note")
+
+
+# What each standing word means; printed by `plumebook due --help` (STANDING_HELP).
+STANDINGS = (
+    ("overdue", "the due date has passed and the work is not recorded"),
+    ("due today", "the due date is today"),
+    ("due now", "a survey window is open now: survey any day up to the due date"),
+    ("due in N days", "a leak deadline N days ahead (count from the as-of date)"),
+    ("window opens DATE", "a survey before DATE comes too soon after the last to count; nothing to do yet"),
+    ("no fixed date", "the deadline has no date yet (e.g. repair at the next shutdown)"),
+)
+STANDING_HELP = "; ".join(f"'{word}': {meaning}" for word, meaning in STANDINGS)
 
 
 def standing(item: DueItem, as_of: date) -> str:
-    """'overdue', 'open' (window open now), or 'due'."""
+    """The item's standing on ``as_of`` in words that need no legend (see ``STANDINGS``)."""
     if item.overdue(as_of):
         return "overdue"
-    if item.earliest is not None and item.earliest <= as_of:
-        return "open"
-    return "due"
+    if item.earliest is not None and item.earliest > as_of:
+        return f"window opens {item.earliest.isoformat()}"
+    left = item.days_left(as_of)
+    if left is None:
+        return "no fixed date"
+    if left == 0:
+        return "due today"
+    if item.earliest is not None:
+        return "due now"
+    return f"due in {left} day" + ("" if left == 1 else "s")
 
 
 def due_rows(items: Iterable[DueItem], as_of: date) -> list[dict[str, Any]]:
@@ -29,7 +48,8 @@ def due_rows(items: Iterable[DueItem], as_of: date) -> list[dict[str, Any]]:
         "standing": standing(i, as_of), "kind": i.kind, "due": i.due.isoformat() if i.due else "",
         "days_left": i.days_left(as_of), "earliest": i.earliest.isoformat() if i.earliest else "",
         "site": i.site_name, "site_id": i.site_id, "method": i.method, "tag": i.tag,
-        "component_type": i.component_type, "leak_id": i.leak_id, "repeat_leaker": i.repeat_leaker,
+        "component_type": i.component_type, "leak_id": i.leak_id, "hazard": i.hazard,
+        "repeat_leaker": i.repeat_leaker,
         "rule": i.rule, "citation": i.citation, "status": i.status, "note": i.note,
     } for i in items]
 

@@ -34,7 +34,8 @@ def test_init_then_demo_prints_where_it_wrote(tmp_path, capsys, monkeypatch):
     code, out, _ = run(capsys, "--db", db, "surveys", "--site", "Orrel Mesa Pad 2", "--json")
     assert len(json.loads(out)) == 2
     code, out, _ = run(capsys, "--db", db, "history", leaks[0]["id"], "--json")
-    assert json.loads(out)[0]["op"] == "insert"
+    story = json.loads(out)  # a leak's history is its whole timeline (tests/test_desk.py)
+    assert story["leak"]["id"] == leaks[0]["id"] and story["events"][0]["op"] == "insert"
 
 
 def test_demo_without_display_says_so_and_exits_zero(tmp_path, capsys, monkeypatch):

@@ -5,6 +5,7 @@ from __future__ import annotations
 import argparse
 
 from fieldapp.commands import (
+    desk_cmds,
     estimate_cmds,
     evidence_cmds,
     records_cmds,
@@ -16,5 +17,5 @@ from fieldapp.commands import (
 
 def register(sub: argparse._SubParsersAction) -> None:
     """Add every sub-command to the parser."""
-    for module in (records_cmds, rules_cmds, estimate_cmds, evidence_cmds, sync_cmds, report_cmds):
+    for module in (records_cmds, desk_cmds, rules_cmds, estimate_cmds, evidence_cmds, sync_cmds, report_cmds):
         module.register(sub)

@@ -8,7 +8,7 @@ import math
 import sys
 from datetime import UTC, datetime
 
-from fieldapp.cli import emit_json, emit_table, open_store, parse_day, parse_number, required_text
+from fieldapp.cmdkit import emit_json, emit_table, open_store, parse_day, parse_number, required_text
 from fieldapp.core.fields import FieldProblem, ValidationError
 
 MAX_PPM = 1_000_000  # a screening value is a volume fraction in ppmv: 1,000,000 is the whole sample

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import argparse
 
-from fieldapp.cli import emit_json, emit_table, open_store, parse_number
+from fieldapp.cmdkit import emit_json, emit_table, open_store, parse_number
 from fieldapp.core.fields import FieldProblem, ValidationError
 
 
@@ -13,13 +13,13 @@ def register(sub: argparse._SubParsersAction) -> None:
     p = sub.add_parser("evidence", help="photos and clips of leaks")
     what = p.add_subparsers(dest="what", required=True, metavar="WHAT")
     a = what.add_parser("add", help="add photos or clips to a leak")
-    a.add_argument("--leak", required=True)
+    a.add_argument("--leak", required=True, help="leak id, TAG or TAG@YYYY-MM-DD")
     a.add_argument("files", nargs="+")
     a.add_argument("--marker", action="append", default=[], help="X,Y in 0..1 from the top-left (repeatable)")
     a.add_argument("--label", default="", help="marker label (default: the component tag)")
     a.set_defaults(handler=cmd_add)
     li = what.add_parser("list", help="photos and clips of a leak")
-    li.add_argument("--leak", required=True)
+    li.add_argument("--leak", required=True, help="leak id, TAG or TAG@YYYY-MM-DD")
     li.add_argument("--json", action="store_true")
     li.set_defaults(handler=cmd_list)
     v = sub.add_parser("verify", help="re-hash every original and check the database")
@@ -37,12 +37,11 @@ def _markers(texts: list[str], label: str) -> list[tuple[float, float, str]]:
     return out
 
 
-def _leak(store, leak_id: str) -> dict:
-    rows = store.rows("SELECT l.id, c.tag FROM leaks l JOIN components c ON c.id = l.component_id "
-                      "WHERE l.id = ? AND l.deleted = 0", (leak_id,))
-    if not rows:
-        raise ValidationError([FieldProblem("leak", f"no leak with id {leak_id!r}; `plumebook leaks` lists them")])
-    return rows[0]
+def _leak(store, key: str) -> dict:
+    """A leak by id, TAG (its open leak, or its only one) or TAG@YYYY-MM-DD (``fieldapp.store.names``)."""
+    from fieldapp.store.names import resolve_leak
+
+    return resolve_leak(store, key, field="leak", closed_too=True)
 
 
 def cmd_add(args: argparse.Namespace) -> int:
@@ -51,7 +50,7 @@ def cmd_add(args: argparse.Namespace) -> int:
     store = open_store(args)
     leak = _leak(store, args.leak)
     markers = _markers(args.marker, args.label or leak["tag"])
-    for row in add_files(store, args.leak, args.files, markers, args.actor):
+    for row in add_files(store, leak["id"], args.files, markers, args.actor):
         print(f"added {row['media_kind']} {row['original_name']} sha256 {row['sha256']} as {row['id']}")
     return 0
 
@@ -60,8 +59,7 @@ def cmd_list(args: argparse.Namespace) -> int:
     from fieldapp.evidence.ingest import media_for
 
     store = open_store(args)
-    _leak(store, args.leak)
-    rows = media_for(store, args.leak)
+    rows = media_for(store, _leak(store, args.leak)["id"])
     if args.json:
         emit_json(rows)
     else:

@@ -6,7 +6,7 @@ import argparse
 import os
 from pathlib import Path
 
-from fieldapp.cli import emit_json, emit_table, open_store, required_text
+from fieldapp.cmdkit import emit_json, emit_table, open_store, required_text
 
 MIN_SIDE, MAX_SIDE = 100, 8192  # screenshot size limits in pixels
 
@@ -36,8 +36,10 @@ def register(sub: argparse._SubParsersAction) -> None:
     p.add_argument("--json", action="store_true")
     p.set_defaults(handler=cmd_leaks)
 
-    p = sub.add_parser("history", help="journal of one record, oldest first")
-    p.add_argument("record_id")
+    p = sub.add_parser("history", help="a leak's whole story (or the journal of any record), oldest first")
+    p.add_argument("record_id", help="leak TAG (its open leak, or its only one), TAG@YYYY-MM-DD, or any record id")
+    p.add_argument("--site", help="site id or name, when the tag is used at several sites")
+    p.add_argument("--as-of", help="date YYYY-MM-DD: only what had been recorded by the end of that day (UTC)")
     p.add_argument("--json", action="store_true")
     p.set_defaults(handler=cmd_history)
 
@@ -47,6 +49,11 @@ def register(sub: argparse._SubParsersAction) -> None:
     c.add_argument("file", type=Path)
     c.add_argument("--site", required=True, help="site id or name")
     c.set_defaults(handler=cmd_import_components)
+    c = what.add_parser("work", help="a contractor's work: CSV of actions on leaks, all or nothing (columns in "
+                        "DEVELOPERS.md)")
+    c.add_argument("file", type=Path)
+    c.add_argument("--site", help="site id or name, when tags are used at several sites")
+    c.set_defaults(handler=cmd_import_work)
     register_app(sub)
 
 
@@ -143,18 +150,35 @@ def cmd_leaks(args: argparse.Namespace) -> int:
     if args.json:
         emit_json(rows)
     else:
-        for r in rows:
-            r["repeat"] = "REPEAT LEAKER" if r["repeat_leaker"] else ""
-            r["hazard!"] = "HAZARD" if r["hazard"] else ""
-        emit_table(rows, ("detected_on", "site_name", "tag", "component_type", "state", "repeat", "hazard!",
+        for r in rows:  # the same column names and words as `plumebook due`
+            r["repeat leaker"] = "REPEAT LEAKER" if r["repeat_leaker"] else ""
+            r["hazard"] = "HAZARD" if r["hazard"] else ""
+        emit_table(rows, ("detected_on", "site_name", "tag", "component_type", "state", "hazard", "repeat leaker",
                           "id"))
     return 0
 
 
 def cmd_history(args: argparse.Namespace) -> int:
-    from fieldapp.store.history import history
+    from fieldapp.cmdkit import parse_day
+    from fieldapp.store.history import history, leak_timeline
+    from fieldapp.store.names import resolve_leak
 
-    entries = history(open_store(args), args.record_id)
+    as_of = parse_day(args.as_of, "--as-of").isoformat() if args.as_of is not None else None
+    store = open_store(args)
+    key = required_text(args.record_id, "record_id")
+    is_leak = store.rows("SELECT 1 FROM leaks WHERE id = ?", (key,))
+    other = not is_leak and store.rows("SELECT 1 FROM journal WHERE row_id = ? LIMIT 1", (key,))
+    if not other:
+        leak = resolve_leak(store, key, _site_id(store, args.site), "record_id", closed_too=True)
+        story = leak_timeline(store, leak["id"], as_of)
+        if args.json:
+            emit_json(story)
+        else:
+            print_story(story, leak)
+        return 0
+    entries = history(store, key)
+    if as_of:
+        entries = [e for e in entries if e["at"] <= f"{as_of}T99"]
     if args.json:
         emit_json(entries)
         return 0
@@ -165,9 +189,24 @@ def cmd_history(args: argparse.Namespace) -> int:
                                 if e["old"].get(k) != v)
         elif e.get("batch_size"):
             changed = f"(one import of {e['batch_size']} records)"
-        print(f"{e['at']}  {e['op']:<6}  {e['tbl']:<10}  by {e['actor'] or '?'} on device "
+        print(f"{e['at']}  {e['op']:<6}  {e['tbl']:<10}  by {e['actor'] or '(not named)'} on device "
               f"{e['device_id'][:8]} #{e['seq']}  {changed}")
     return 0
+
+
+def print_story(story: dict, leak: dict) -> None:
+    """A leak's timeline as text, one event a line, with who recorded it, when and on which device."""
+    comp = story["component"] or {}
+    state = "as recorded by the end of " + story["as_of"] if story["as_of"] else "now"
+    print(f"leak {leak['tag']} at {story['site']} ({comp.get('type')}, {comp.get('service')}), {state}; "
+          f"id {leak['id']}")
+    if (story["leak"] or {}).get("hazard"):
+        print("HAZARD: the leak may be large, near ignition or carry H2S; follow site procedures.")
+    for e in story["events"]:
+        late = f"  BACKDATED (keyed in {e['recorded_at'][:10]})" if e["backdated"] else ""
+        print(f"{e['on']} {e['at'] or '     '}  {e['what']:<9}  {e['summary']}")
+        print(f"{'':18}recorded {e['recorded_at']} by {e['actor'] or '(not named)'} on device "
+              f"{e['device_id'][:8]} #{e['seq']}{late}")
 
 
 def cmd_import_components(args: argparse.Namespace) -> int:
@@ -181,6 +220,34 @@ def cmd_import_components(args: argparse.Namespace) -> int:
     site = resolve_site(store, args.site)
     count = import_components(store, args.file, site["id"], args.actor)
     print(f"imported {count} components into {site['name']}")
+    return 0
+
+
+def cmd_import_work(args: argparse.Namespace) -> int:
+    import sys
+
+    from fieldapp.cmdkit import progress, say_actor
+    from fieldapp.core.fields import FieldProblem, ValidationError
+    from fieldapp.paths import input_file
+    from fieldapp.store.work_import import import_work
+
+    input_file(args.file, "file")
+    store = open_store(args)
+    site_id = _site_id(store, args.site)
+    try:
+        with progress(None, "checking rows") as bar:
+            done = import_work(store, args.file, args.actor, site_id, bar.update)
+    except ValidationError as exc:
+        for problem in exc.problems:  # every problem with its line, then the one-line summary
+            print(f"plumebook: {args.file.name}: {problem}", file=sys.stderr)
+        lines = sorted({p.line for p in exc.problems if p.line is not None})
+        raise ValidationError([FieldProblem("file", f"{len(exc.problems)} problem(s) on line(s) "
+                                            f"{', '.join(map(str, lines)) or '1'}; nothing was imported")]) from None
+    say_actor(args)
+    for row in done:
+        print(f"line {row['line']}: {row['kind'].replace('_', ' ')} of {row['tag']} at {row['site']} on "
+              f"{row['done_on']} by {row['who']}")
+    print(f"imported {len(done)} action(s) from {args.file.name} in one transaction")
     return 0
 
 

@@ -5,7 +5,7 @@ from __future__ import annotations
 import argparse
 from pathlib import Path
 
-from fieldapp.cli import open_store, parse_day, required_text
+from fieldapp.cmdkit import open_store, parse_day, required_text
 from fieldapp.core.fields import FieldProblem, ValidationError
 from fieldapp.paths import output_file, output_folder
 

@@ -7,7 +7,7 @@ import dataclasses
 import uuid
 from datetime import UTC, datetime
 
-from fieldapp.cli import emit_json, emit_table, open_store, parse_day, parse_number, parse_whole, required_text
+from fieldapp.cmdkit import emit_json, emit_table, open_store, parse_day, parse_number, parse_whole, required_text
 
 MAX_PPM = 1_000_000  # ppmv: the whole sample
 MAX_WITHIN_DAYS = 36_500
@@ -48,7 +48,15 @@ def register(sub: argparse._SubParsersAction) -> None:
     w.add_argument("--json", action="store_true")
     w.set_defaults(handler=cmd_window)
 
-    p = sub.add_parser("due", help="what is due across sites, overdue first")
+    from sync.tables import STANDINGS
+
+    p = sub.add_parser("due", help="what is due across sites, overdue first",
+                       formatter_class=argparse.RawDescriptionHelpFormatter,
+                       epilog="standing:\n" + "\n".join(f"  {w:<18} {m}" for w, m in STANDINGS)
+                       + "\n\nhazard: HAZARD when the leak was marked hazardous (large, near ignition, or may "
+                       "carry H2S):\n  follow site procedures and wear a personal gas monitor before approaching."
+                       "\nrepeat leaker: REPEAT LEAKER when leaks on the component were found in 2 of its "
+                       "site's last 4 surveys.")
     p.add_argument("--as-of", help="date YYYY-MM-DD (default: today, UTC)")
     p.add_argument("--site", help="site id or name")
     p.add_argument("--within", help="only items overdue or due within DAYS (0 to 36500)")
@@ -225,6 +233,11 @@ def cmd_due(args: argparse.Namespace) -> int:
         sys.stdout.write(to_csv(rows, DUE_COLUMNS))
     else:
         for r in rows:
-            r["!"] = "REPEAT" if r["repeat_leaker"] else ""
-        emit_table(rows, ("standing", "due", "days_left", "kind", "site", "method", "tag", "!", "rule"))
+            r["hazard"] = "HAZARD" if r["hazard"] else ""
+            r["repeat leaker"] = "REPEAT LEAKER" if r["repeat_leaker"] else ""
+        emit_table(rows, ("standing", "due", "days_left", "kind", "site", "method", "tag", "hazard",
+                          "repeat leaker", "rule"))
+        if any(r["hazard"] for r in rows):
+            print("HAZARD: the leak may be large, near ignition or carry H2S; follow site procedures, the permit "
+                  "and local codes, and wear a personal gas monitor before approaching.")
     return 0

@@ -5,7 +5,7 @@ from __future__ import annotations
 import argparse
 from pathlib import Path
 
-from fieldapp.cli import emit_json, emit_table, open_store, parse_whole, required_text
+from fieldapp.cmdkit import emit_json, emit_table, open_store, parse_whole, required_text
 from fieldapp.paths import input_file, output_file
 
 

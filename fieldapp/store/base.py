@@ -116,6 +116,9 @@ class Store:
         migrate(self.conn)
         self.db = Database(self.conn)
         self.actor = actor
+        # When set, (field, message) refuses a write naming nobody (the command sets it when it found
+        # no name, so the journal never records an unnamed write from there).
+        self.unnamed_refusal: tuple[str, str] | None = None
         self.wall = wall
         self.device_id = self._device_id()
         last = self.conn.execute(
@@ -185,6 +188,10 @@ class Store:
     def _journal_rows(self, entries: list[tuple[str, str, str, Any, Any]], actor: str) -> list[tuple]:
         at = self.now_text()
         device, who, seq = self.device_id, actor or self.actor, self._next_seq
+        if not who and self.unnamed_refusal:
+            from fieldapp.core.fields import FieldProblem, ValidationError
+
+            raise ValidationError([FieldProblem(*self.unnamed_refusal)])
         stamps = self.clock.many(len(entries))
         rows = [
             (device, seq + i, stamps[i], at, who, tbl, row_id, op, None if old is None else dumps(old),

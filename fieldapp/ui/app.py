@@ -44,6 +44,10 @@ class PlumebookApp(App):
     def build(self):
         Window.clearcolor = theme.BG
         self.store = Store(self.db_path, actor=os.environ.get("PLUMEBOOK_ACTOR", ""))
+        if not self.store.actor.strip():  # the journal never names nobody (`plumebook config actor`)
+            from fieldapp.store.prefs import default_actor
+
+            self.store.actor = default_actor(self.store)
         from kivy.clock import Clock
 
         from fieldapp.evidence.ingest import library
