@@ -62,7 +62,7 @@ def render(report: PeriodReport) -> bytes:
 SURVEY_HEAD = ("Date of the survey", "Begin time", "End time", "Operator", "Operator training and experience",
                "Instrument", "Daily verification", "Ambient temperature", "Sky conditions", "Maximum wind speed",
                "Deviations from the monitoring plan", "Leaks found")
-SURVEY_WIDTHS = (0.08, 0.095, 0.095, 0.075, 0.125, 0.105, 0.07, 0.06, 0.055, 0.06, 0.12, 0.05)
+SURVEY_WIDTHS = (0.08, 0.095, 0.095, 0.075, 0.115, 0.105, 0.075, 0.065, 0.06, 0.065, 0.11, 0.05)
 
 
 def _resurvey(line) -> str:
@@ -100,7 +100,7 @@ def _site_section(s: SiteSummary) -> list:
                      words(x.state) + (" (OVERDUE: " + words(x.overdue).replace(";", ", ") + ")" if x.overdue else "")])
     if len(rows) == 1:
         rows.append(["none"] + [""] * 8)
-    out.append(grid(rows, [w * x for x in (0.08, 0.11, 0.08, 0.05, 0.12, 0.12, 0.16, 0.18, 0.1)]))
+    out.append(grid(rows, [w * x for x in (0.08, 0.11, 0.08, 0.055, 0.12, 0.12, 0.16, 0.175, 0.1)]))
     by_type = ", ".join(f"{t} {n}" for t, n in s.leaks_by_type.items()) or "none"
     out.append(para(f"Components with leaks, by type: {by_type}. Repairs confirmed by a resurvey: {s.confirmed}; "
                     f"repaired, resurvey not yet done: {s.not_confirmed}; on delay of repair: {s.delayed}; "

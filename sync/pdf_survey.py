@@ -38,6 +38,7 @@ def certification_block(statement: str) -> KeepTogether:
     """The statement to sign and the lines for name, title, signature and date, kept on one page."""
     lines = grid([["Name", ""], ["Title", ""], ["Signature", ""], ["Date", ""]], [WIDTH * 0.2, WIDTH * 0.5],
                  header=False)
+    lines.hAlign = "LEFT"
     lines.setStyle([("TOPPADDING", (0, 0), (-1, -1), 9), ("BOTTOMPADDING", (0, 0), (-1, -1), 9)])
     return KeepTogether([para("Certification", "h2"), para(statement, "body"), Spacer(1, 4), lines])
 

@@ -201,6 +201,15 @@ def _last(actions: list[dict[str, Any]], *kinds: str) -> dict[str, Any]:
     return done[-1] if done else {}
 
 
+def _first_attempt(actions: list[dict[str, Any]], on: date | None) -> dict[str, Any]:
+    """The action that counts as the first attempt (a repair or delay on that day counts when none is named)."""
+    if on is None:
+        return {}
+    same = [a for a in actions if a["done_on"] == on.isoformat()
+            and a["kind"] in ("first_attempt", "repaired", "delay_of_repair")]
+    return sorted(same, key=lambda a: (a["kind"] != "first_attempt", a["seq"], a["id"]))[0] if same else {}
+
+
 def _extra(row: dict[str, Any], f, actions: list[dict[str, Any]], media: list[dict[str, Any]], rate) -> dict:
     """The record fields of a leak beyond its dates: who did what, with which method, parts dates, photos."""
     zone = row["timezone"]
@@ -213,7 +222,7 @@ def _extra(row: dict[str, Any], f, actions: list[dict[str, Any]], media: list[di
         "detection_method": words(row.get("detection_method") or row["survey_method"]),
         "resurvey_method": words(resurvey.get("method") or (f.resurvey_method.value if f.resurvey_method else "")),
         "resurvey_instrument": resurvey.get("instrument", ""), "resurveyed_by": resurvey.get("actor", ""),
-        "first_attempt_by": _last(actions, "first_attempt").get("actor", ""),
+        "first_attempt_by": _first_attempt(actions, f.first_attempt_on).get("actor", ""),
         "repaired_by": _last(actions, "repaired").get("actor", ""),
         "delay_kind": words(f.delay.kind.value) if f.delay else "",
         "parts_ordered_on": _d(f.delay.parts_ordered_on) if f.delay else "",
