@@ -88,6 +88,9 @@ class LeakLine:
     difficult_to_monitor: bool = False
     unsafe_to_monitor: bool = False
     factor_set: str = ""
+    factor_key: str = ""
+    factor_value: float | None = None
+    factor_unit: str = ""
     photos: list[dict[str, str]] = field(default_factory=list)
     timeline: list[dict[str, str]] = field(default_factory=list)
 
@@ -214,7 +217,9 @@ def _extra(row: dict[str, Any], f, actions: list[dict[str, Any]], media: list[di
     """The record fields of a leak beyond its dates: who did what, with which method, parts dates, photos."""
     zone = row["timezone"]
     resurvey = _last(actions, "resurvey_passed", "resurvey_failed")
-    factor = {} if isinstance(rate, EstimateError) else {"factor_set": rate.factor_set}
+    factor = {} if isinstance(rate, EstimateError) else {
+        "factor_set": rate.factor_set, "factor_key": rate.factor_key, "factor_value": rate.factor_value,
+        "factor_unit": rate.factor_unit}
     return {
         "screening_ppm": row["screening_ppm"], "measured_rate": row["measured_rate"],
         "measured_unit": row["measured_unit"], "measured_instrument": row["measured_instrument"],

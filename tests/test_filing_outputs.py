@@ -94,6 +94,31 @@ def test_survey_report_shows_delay_parts_dates_and_components_not_monitored(demo
         assert c["tag"] in text and c["flag"] in text
 
 
+def test_overdue_is_set_in_bold_red(demo_store):
+    """An overdue deadline reads OVERDUE in bold red type (our own display choice; no source)."""
+    from reportlab.lib.colors import toColor
+
+    from sync.pdf_common import ALERT
+
+    report = survey_report(demo_store, demo_store.rows(
+        "SELECT v.id FROM surveys v JOIN leaks l ON l.survey_id = v.id JOIN components c ON c.id = l.component_id "
+        "WHERE c.tag = 'TD-0051'")[0]["id"], TODAY)
+    assert any(x.overdue for x in report.leaks)
+    fonts: list[str] = []
+    fills: list[tuple[float, ...]] = []
+    for page in PdfReader(io.BytesIO(render_survey(demo_store, report))).pages:
+        page.extract_text(visitor_text=lambda text, _cm, _tm, font, _size: fonts.append(
+            font.get("/BaseFont", "") if "OVERDUE" in text and font else ""))
+        content = page.get_contents().get_data().decode("latin-1")
+        at = content.find("OVERDUE) Tj")  # a deadline cell, not the note "marked OVERDUE as of"
+        if at >= 0:  # the fill colour set last before the word is drawn
+            fills.append(tuple(float(v) for v in content[:content.rfind(" rg", 0, at)].split()[-3:]))
+    assert "/Helvetica-Bold" in fonts
+    red = toColor(ALERT)
+    assert fills and all(max(abs(a - b) for a, b in zip(f, (red.red, red.green, red.blue), strict=True)) < 1e-3
+                         for f in fills)
+
+
 def test_period_pdf_lists_every_survey_and_every_leak_in_words(demo_store):
     report = period_report(demo_store, date(2025, 1, 1), TODAY)
     text = flat(render_period(report))
@@ -241,6 +266,8 @@ def test_csv_columns_cover_the_leak_record_and_bom_option(demo_store, tmp_path):
         assert col in rows[0]
     assert any(r["parts_ordered_on"] for r in rows) and any(r["resurvey_method"] == "ogi" for r in rows)
     assert all(len(h) == 64 for r in rows for h in r["photo_sha256"].split(";") if h)
+    leaker = [r for r in rows if r["basis"] == "leaker_factor"]
+    assert leaker and all(f"= {float(r['factor_value']):g} {r['factor_unit']}" in r["factor_row"] for r in leaker)
     legend = (tmp_path / "plain" / "legend.csv").read_text(encoding="utf-8")
     assert "memory" in legend and "closed" in legend
 
