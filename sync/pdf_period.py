@@ -82,6 +82,7 @@ def _site_section(s: SiteSummary) -> list:
     head = [list(SURVEY_HEAD)]
     body = [[r.get(k, "-") for k in SURVEY_HEAD] for r in s.surveys] or [["none in the period"] + [""] * 11]
     out.append(grid(head + body, [w * x for x in SURVEY_WIDTHS]))
+    out.append(para(f"Survey record fields the program lists: {s.record_citation or 'none listed'}", "small"))
     out.append(para("Survey windows missed: " + ("; ".join(s.windows_missed) or "none"),
                     "hazard" if s.windows_missed else "body"))
     out.append(para("Leaks found in the period", "h3"))

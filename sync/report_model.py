@@ -393,11 +393,17 @@ class SiteSummary:
     not_monitored: list[dict[str, str]] = field(default_factory=list)
     facility_id: str = ""
     coordinates: str = ""
+    record_citation: str = ""
 
 
 # the survey columns of the period summary: 60.5420a(c)(15)(vii)(A)-(G) / 60.5420b(b)(9)(ii)(A)-(C)
 PERIOD_SURVEY_FIELDS = ("started_at", "ended_at", "operator", "qualification", "camera_model", "camera_check",
                         "ambient_temp_c", "sky", "wind_max_m_s", "deviations")
+
+
+def _record_citation(program_id: str) -> str:
+    program = catalog.program(program_id)
+    return program.survey_records.citation if program.survey_records else ""
 
 
 def _survey_rows(store: Store, site: dict[str, Any], start: date, end: date) -> list[dict[str, str]]:
@@ -470,6 +476,7 @@ def period_report(store: Store, start: date, end: date, site_id: str | None = No
                 for c in store.rows("SELECT * FROM components WHERE site_id = ? AND deleted = 0 AND "
                                     "(difficult_to_monitor = 1 OR unsafe_to_monitor = 1) ORDER BY tag",
                                     (site["id"],))],
+            record_citation=_record_citation(site["program_id"]),
             facility_id=site.get("facility_id") or "", coordinates=dict(site_identifiers(site))[
                 "Latitude, longitude (decimal degrees)"]))
     made = store.now_text()
