@@ -62,7 +62,10 @@ def render(report: PeriodReport) -> bytes:
 SURVEY_HEAD = ("Date of the survey", "Begin time", "End time", "Operator", "Operator training and experience",
                "Instrument", "Daily verification", "Ambient temperature", "Sky conditions", "Maximum wind speed",
                "Deviations from the monitoring plan", "Leaks found")
-SURVEY_WIDTHS = (0.08, 0.095, 0.095, 0.075, 0.115, 0.105, 0.075, 0.065, 0.06, 0.065, 0.11, 0.05)
+SURVEY_WIDTHS = (0.08, 0.095, 0.095, 0.075, 0.105, 0.105, 0.075, 0.065, 0.07, 0.065, 0.11, 0.05)
+# column heads short enough not to break inside a word; the survey report's record uses the full labels
+SHORT_HEAD = {"Ambient temperature": "Ambient temp.", "Sky conditions": "Sky",
+              "Maximum wind speed": "Max. wind", "Deviations from the monitoring plan": "Deviations from the plan"}
 
 
 def _resurvey(line) -> str:
@@ -79,7 +82,7 @@ def _site_section(s: SiteSummary) -> list:
     out: list = [CondPageBreak(60 * mm), para(s.site, "h2"),
                  para(f"Facility / permit id {s.facility_id or 'not recorded'}; latitude, longitude {s.coordinates}; "
                       f"program {s.program_id}.", "body"), para("Surveys in the period", "h3")]
-    head = [list(SURVEY_HEAD)]
+    head = [[SHORT_HEAD.get(h, h) for h in SURVEY_HEAD]]
     body = [[r.get(k, "-") for k in SURVEY_HEAD] for r in s.surveys] or [["none in the period"] + [""] * 11]
     out.append(grid(head + body, [w * x for x in SURVEY_WIDTHS]))
     out.append(para(f"Survey record fields the program lists: {s.record_citation or 'none listed'}", "small"))
@@ -101,7 +104,7 @@ def _site_section(s: SiteSummary) -> list:
                      words(x.state) + (" (OVERDUE: " + words(x.overdue).replace(";", ", ") + ")" if x.overdue else "")])
     if len(rows) == 1:
         rows.append(["none"] + [""] * 8)
-    out.append(grid(rows, [w * x for x in (0.08, 0.11, 0.08, 0.055, 0.12, 0.12, 0.16, 0.175, 0.1)]))
+    out.append(grid(rows, [w * x for x in (0.08, 0.11, 0.08, 0.06, 0.12, 0.12, 0.155, 0.175, 0.1)]))
     by_type = ", ".join(f"{t} {n}" for t, n in s.leaks_by_type.items()) or "none"
     out.append(para(f"Components with leaks, by type: {by_type}. Repairs confirmed by a resurvey: {s.confirmed}; "
                     f"repaired, resurvey not yet done: {s.not_confirmed}; on delay of repair: {s.delayed}; "
