@@ -10,7 +10,7 @@ from dataclasses import asdict
 from datetime import date
 from pathlib import Path
 
-from fieldapp.atomic import write_text
+from fieldapp.atomic import write_bytes
 from fieldapp.store.base import Store
 from fieldapp.store.estimates import leak_rows
 from sync.report_model import GWP_SET, leak_lines
@@ -21,7 +21,32 @@ LEAK_COLUMNS = (
     "detected_on", "state", "hazard", "first_attempt_on", "first_attempt_due", "repaired_on", "final_repair_due",
     "resurveyed_on", "resurvey_due", "delay_on", "delay_reason", "delay_shutdown_on", "delay_limit", "late", "overdue",
     "basis", "factor_row", "methane_kg_per_h", "co2e_kg_per_h_100yr", "co2e_kg_per_h_20yr", "gwp_set",
-    "estimate_source",
+    "estimate_source", "factor_set", "factor_key", "factor_value", "factor_unit", "screening_ppm", "measured_rate",
+    "measured_unit", "measured_instrument",
+    "hazard_note", "repeat_leaker", "program_id", "detection_method", "first_attempt_by", "repaired_by",
+    "resurvey_method", "resurvey_instrument", "resurveyed_by", "delay_kind", "parts_ordered_on", "parts_received_on",
+    "difficult_to_monitor", "unsafe_to_monitor", "photo_sha256",
+)
+# What the words in the files mean (legend.csv): column, value, meaning.
+LEGEND = (
+    ("state", "open", "found, no repair step recorded yet"),
+    ("state", "attempted", "a first attempt at repair was made; not yet repaired"),
+    ("state", "repaired", "repaired; the resurvey that confirms the repair is not yet recorded"),
+    ("state", "closed", "repaired and confirmed by a passed resurvey"),
+    ("state", "delayed", "on delay of repair"),
+    ("state", "void", "entered by mistake and voided (kept for the record)"),
+    ("status", "text", "value read in the published rule or table text named in its citation"),
+    ("status", "memory", "value recalled from memory, not yet checked against the published text"),
+    ("status", "summary", "value from a secondary summary of the rule, not the rule text"),
+    ("status", "company", "value set by the company's own program file"),
+    ("basis", "leaker_factor", "published leaker emission factor for the component type and service"),
+    ("basis", "correlation", "Method 21 screening value through a published correlation equation"),
+    ("basis", "pegged", "screening value at the instrument limit: the published pegged rate"),
+    ("basis", "measured", "rate measured and entered by the user"),
+    ("basis", "no_factor", "no published factor shipped for this component and service: not estimated"),
+    ("photo_sha256", "", "SHA-256 of each original photo, ';'-separated; the originals are kept byte for byte"),
+    ("(any text)", "'", "a text starting with = + - @ tab, CR or ' is written with one extra leading apostrophe "
+                        "so a spreadsheet shows it as text; remove that one apostrophe to read the value"),
 )
 SURVEY_COLUMNS = (
     "survey_id", "site", "site_id", "method", "started_at", "ended_at", "operator", "qualification", "camera_make",
@@ -91,12 +116,18 @@ def component_table(store: Store, site_id: str | None = None):
 
 
 def export_csv(store: Store, folder: Path, start: date | None = None, end: date | None = None,
-               site_id: str | None = None) -> list[Path]:
-    """Write the four CSV files into ``folder`` (each atomically); returns their paths."""
+               site_id: str | None = None, bom: bool = False) -> list[Path]:
+    """Write the four CSV files and legend.csv into ``folder`` (each atomically); returns their paths.
+
+    ``bom`` starts each file with the UTF-8 byte order mark (for spreadsheets that otherwise guess a
+    legacy code page and garble ° and §)."""
     files = {
         "leaks.csv": to_csv(leak_table(store, start, end, site_id), LEAK_COLUMNS),
         "surveys.csv": to_csv(survey_table(store, start, end, site_id), SURVEY_COLUMNS),
         "actions.csv": to_csv(action_table(store, start, end, site_id), ACTION_COLUMNS),
         "components.csv": to_csv(component_table(store, site_id), COMPONENT_COLUMNS),
+        "legend.csv": to_csv([dict(zip(("column", "value", "meaning"), row, strict=True)) for row in LEGEND],
+                             ("column", "value", "meaning")),
     }
-    return [write_text(folder / name, text) for name, text in files.items()]
+    encoding = "utf-8-sig" if bom else "utf-8"
+    return [write_bytes(folder / name, text.encode(encoding)) for name, text in files.items()]

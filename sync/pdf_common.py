@@ -21,8 +21,13 @@ ALERT = colors.HexColor("#b3261e")
 _base = getSampleStyleSheet()
 STYLES = {
     "title": ParagraphStyle("title", parent=_base["Title"], fontSize=17, leading=21, alignment=0, spaceAfter=4),
-    "h2": ParagraphStyle("h2", parent=_base["Heading2"], fontSize=12.5, leading=15, spaceBefore=8, spaceAfter=4),
-    "h3": ParagraphStyle("h3", parent=_base["Heading3"], fontSize=10.5, leading=13, spaceBefore=4, spaceAfter=2),
+    "h2": ParagraphStyle("h2", parent=_base["Heading2"], fontSize=12.5, leading=15, spaceBefore=8, spaceAfter=4,
+                         keepWithNext=1),
+    "h3": ParagraphStyle("h3", parent=_base["Heading3"], fontSize=10.5, leading=13, spaceBefore=4, spaceAfter=2,
+                         keepWithNext=1),
+    "alert": ParagraphStyle("alert", parent=_base["BodyText"], fontName="Helvetica-Bold", fontSize=8, leading=10,
+                            textColor=ALERT),
+    "caption": ParagraphStyle("caption", parent=_base["BodyText"], fontSize=8, leading=10),
     "body": ParagraphStyle("body", parent=_base["BodyText"], fontSize=9, leading=11.5),
     "small": ParagraphStyle("small", parent=_base["BodyText"], fontSize=7.5, leading=9.5, textColor=RULE),
     "cell": ParagraphStyle("cell", parent=_base["BodyText"], fontSize=8, leading=10),
@@ -79,8 +84,12 @@ def bar_chart(title: str, values: dict[str, float], unit: str, width: float, fmt
     chart.categoryAxis.labels.fontSize = 7.5
     chart.categoryAxis.reverseDirection = True
     chart.valueAxis.valueMin = 0
-    if fmt == "%.0f":  # counts: whole-number ticks
-        chart.valueAxis.valueStep = max(1, int(max(numbers) // 6) or 1)
+    if fmt == "%.0f":  # counts: whole-number ticks, and room above the longest bar so a count of 1 is not the axis
+        top = max(numbers)
+        step = max(1, -(-int(top) // 6))
+        chart.valueAxis.valueStep = step
+        chart.valueAxis.valueMax = max(step * 2, (int(top) // step + 1) * step)
+        chart.valueAxis.labelTextFormat = "%d"
     chart.valueAxis.labels.fontSize = 7
     chart.bars[0].fillColor = colors.HexColor("#3d6b8c")
     chart.barLabelFormat = fmt

@@ -21,7 +21,7 @@ from fieldapp.core.lifecycle import deadlines, outstanding
 from fieldapp.store.base import Store
 from fieldapp.store.due import due_list
 from fieldapp.store.estimates import emission_report, estimates, leak_rows
-from fieldapp.store.reads import facts_for
+from fieldapp.store.reads import REPEAT_COUNT, REPEAT_MIN, facts_for
 
 GWP_SET = "ar5"
 CAUTIONS = (
@@ -70,6 +70,69 @@ class LeakLine:
     co2e_kg_per_h_20yr: float | None
     estimate_source: str
     photo_sha256: list[str] = field(default_factory=list)
+    screening_ppm: float | None = None
+    measured_rate: float | None = None
+    measured_unit: str = ""
+    measured_instrument: str = ""
+    repeat_leaker: bool = False
+    program_id: str = ""
+    detection_method: str = ""
+    resurvey_method: str = ""
+    resurvey_instrument: str = ""
+    first_attempt_by: str = ""
+    repaired_by: str = ""
+    resurveyed_by: str = ""
+    delay_kind: str = ""
+    parts_ordered_on: str = ""
+    parts_received_on: str = ""
+    difficult_to_monitor: bool = False
+    unsafe_to_monitor: bool = False
+    factor_set: str = ""
+    factor_key: str = ""
+    factor_value: float | None = None
+    factor_unit: str = ""
+    photos: list[dict[str, str]] = field(default_factory=list)
+    timeline: list[dict[str, str]] = field(default_factory=list)
+
+
+def words(code: str | None) -> str:
+    """A stored code as a reader's words: 'first_attempt' -> 'first attempt' (empty stays empty)."""
+    return str(code or "").replace("_", " ")
+
+
+def local_time(iso: str | None, zone: str) -> str:
+    """An ISO moment in the site's zone, 'YYYY-MM-DD HH:MM (UTC-07:00)'; empty when not given."""
+    if not iso:
+        return ""
+    moment = datetime.fromisoformat(iso)
+    if moment.tzinfo is None:  # a camera's EXIF time: its own clock, no zone
+        return f"{moment:%Y-%m-%d %H:%M} (camera clock)"
+    moment = moment.astimezone(ZoneInfo(zone))
+    offset = moment.strftime("%z")
+    return f"{moment:%Y-%m-%d %H:%M} (UTC{offset[:3]}:{offset[3:]})"
+
+
+def _timeline(actions: list[dict[str, Any]], media: list[dict[str, Any]], zone: str) -> list[dict[str, str]]:
+    """A leak's events from its actions and photos, in the order they happened (what `history` tells)."""
+    out = []
+    for a in sorted(actions, key=lambda a: (a["done_on"], a["seq"], a["id"])):
+        detail = [a["reason"], a["note"]]
+        if a.get("method"):
+            detail.append(f"method {words(a['method'])}")
+        if a["instrument"]:
+            detail.append(f"instrument {a['instrument']}")
+        if a.get("delay_kind"):
+            detail.append(f"delay route: {words(a['delay_kind'])}")
+        for key, label in (("planned_on", "planned for"), ("shutdown_on", "shutdown"),
+                           ("parts_ordered_on", "parts ordered"), ("parts_received_on", "parts received")):
+            if a.get(key):
+                detail.append(f"{label} {a[key]}")
+        out.append({"on": a["done_on"], "event": words(a["kind"]), "by": a["actor"],
+                    "detail": "; ".join(d for d in detail if d)})
+    for m in media:
+        out.append({"on": (local_time(m["captured_at"] or m["added_at"], zone) or "")[:10], "event": "photo",
+                    "by": m["added_by"], "detail": f"{m['original_name']} SHA-256 {m['sha256'][:12]}"})
+    return sorted(out, key=lambda e: e["on"])
 
 
 def _d(value: date | None) -> str:
@@ -87,10 +150,18 @@ def leak_lines(store: Store, rows: list[dict[str, Any]], as_of: date | None = No
     facts = facts_for(rows, actions)
     rates = estimates(store, rows)
     book = catalog.factor_book()
-    photos: dict[str, list[str]] = defaultdict(list)
-    for m in store.rows(f"SELECT leak_id, sha256 FROM media WHERE deleted = 0 AND media_kind = 'photo' "
+    photos: dict[str, list[dict[str, Any]]] = defaultdict(list)
+    for m in store.rows(f"SELECT * FROM media WHERE deleted = 0 AND media_kind = 'photo' "
                         f"AND leak_id IN ({marks}) ORDER BY added_at", ids):
-        photos[m["leak_id"]].append(m["sha256"])
+        photos[m["leak_id"]].append(m)
+    by_leak: dict[str, list[dict[str, Any]]] = defaultdict(list)
+    for a in actions:
+        by_leak[a["leak_id"]].append(a)
+    repeat = {r["id"]: r["seen_in"] >= REPEAT_MIN for r in store.rows(
+        f"SELECT l.id, {REPEAT_COUNT} AS seen_in FROM leaks l WHERE l.id IN ({marks})", ids)}
+    flags = {r["id"]: r for r in store.rows(
+        f"SELECT l.id, c.difficult_to_monitor, c.unsafe_to_monitor FROM leaks l JOIN components c "
+        f"ON c.id = l.component_id WHERE l.id IN ({marks})", ids)}
     out = []
     for row in rows:
         f = facts[row["id"]]
@@ -119,14 +190,110 @@ def leak_lines(store: Store, rows: list[dict[str, Any]], as_of: date | None = No
             methane_kg_per_h=None if isinstance(rate, EstimateError) else rate.methane_kg_per_h,
             co2e_kg_per_h_100yr=horizons.get(100), co2e_kg_per_h_20yr=horizons.get(20),
             estimate_source="" if isinstance(rate, EstimateError) else rate.source,
-            photo_sha256=photos.get(row["id"], []),
+            photo_sha256=[m["sha256"] for m in photos.get(row["id"], [])],
+            **_extra(row, f, by_leak.get(row["id"], []), photos.get(row["id"], []), rate),
+            repeat_leaker=repeat.get(row["id"], False),
+            difficult_to_monitor=bool(flags[row["id"]]["difficult_to_monitor"]),
+            unsafe_to_monitor=bool(flags[row["id"]]["unsafe_to_monitor"]),
         ))
     return out
+
+
+def _last(actions: list[dict[str, Any]], *kinds: str) -> dict[str, Any]:
+    done = [a for a in sorted(actions, key=lambda a: (a["done_on"], a["seq"], a["id"])) if a["kind"] in kinds]
+    return done[-1] if done else {}
+
+
+def _first_attempt(actions: list[dict[str, Any]], on: date | None) -> dict[str, Any]:
+    """The action that counts as the first attempt (a repair or delay on that day counts when none is named)."""
+    if on is None:
+        return {}
+    same = [a for a in actions if a["done_on"] == on.isoformat()
+            and a["kind"] in ("first_attempt", "repaired", "delay_of_repair")]
+    return sorted(same, key=lambda a: (a["kind"] != "first_attempt", a["seq"], a["id"]))[0] if same else {}
+
+
+def _extra(row: dict[str, Any], f, actions: list[dict[str, Any]], media: list[dict[str, Any]], rate) -> dict:
+    """The record fields of a leak beyond its dates: who did what, with which method, parts dates, photos."""
+    zone = row["timezone"]
+    resurvey = _last(actions, "resurvey_passed", "resurvey_failed")
+    factor = {} if isinstance(rate, EstimateError) else {
+        "factor_set": rate.factor_set, "factor_key": rate.factor_key, "factor_value": rate.factor_value,
+        "factor_unit": rate.factor_unit}
+    return {
+        "screening_ppm": row["screening_ppm"], "measured_rate": row["measured_rate"],
+        "measured_unit": row["measured_unit"], "measured_instrument": row["measured_instrument"],
+        "program_id": row["program_id"],
+        "detection_method": words(row.get("detection_method") or row["survey_method"]),
+        "resurvey_method": words(resurvey.get("method") or (f.resurvey_method.value if f.resurvey_method else "")),
+        "resurvey_instrument": resurvey.get("instrument", ""), "resurveyed_by": resurvey.get("actor", ""),
+        "first_attempt_by": _first_attempt(actions, f.first_attempt_on).get("actor", ""),
+        "repaired_by": _last(actions, "repaired").get("actor", ""),
+        "delay_kind": words(f.delay.kind.value) if f.delay else "",
+        "parts_ordered_on": _d(f.delay.parts_ordered_on) if f.delay else "",
+        "parts_received_on": _d(f.delay.parts_received_on) if f.delay else "",
+        "photos": [{"sha256": m["sha256"], "file": m["original_name"],
+                    "taken": local_time(m["captured_at"], zone) or "not recorded",
+                    "added": local_time(m["added_at"], zone)} for m in media],
+        "timeline": _timeline(actions, media, zone),
+        **factor,
+    }
 
 
 def fingerprint(*parts: Any) -> str:
     """SHA-256 of the canonical JSON of the records a report was made from."""
     return hashlib.sha256(json.dumps(parts, sort_keys=True, default=str).encode()).hexdigest()
+
+
+CERTIFICATION = (
+    "I certify that, based on information and belief formed after reasonable inquiry, the statements and "
+    "information in this report are true, accurate and complete.")
+# (label, how to show it) of each survey record field a program may list (core.program.SURVEY_RECORD_FIELDS)
+RECORD_LABELS = {
+    "started_at": "Begin time", "ended_at": "End time", "operator": "Operator",
+    "qualification": "Operator training and experience", "camera_make": "Instrument make",
+    "camera_model": "Instrument model", "camera_serial": "Instrument serial", "camera_check": "Daily verification",
+    "camera_check_note": "Daily verification note", "ambient_temp_c": "Ambient temperature", "sky": "Sky conditions",
+    "wind_speed_m_s": "Wind speed", "wind_max_m_s": "Maximum wind speed", "areas": "Areas planned",
+    "areas_done": "Areas covered", "deviations": "Deviations from the monitoring plan",
+}
+
+
+def record_fields(survey: dict[str, Any], required: tuple[str, ...], zone: str) -> list[tuple[str, str, bool]]:
+    """The survey's record as (label, value, required by the program) rows, the date first, then every field."""
+    def value(name: str) -> str:
+        if name in ("started_at", "ended_at"):
+            return local_time(survey[name], zone) or "not recorded"
+        if name in ("ambient_temp_c", "wind_speed_m_s", "wind_max_m_s"):
+            from fieldapp.core.weather_units import report_text
+
+            text = report_text(survey, name)
+            return "not recorded" if text == "-" else text
+        if name in ("areas", "areas_done"):
+            items = survey[name] if isinstance(survey[name], list | tuple) else json.loads(survey[name] or "[]")
+            return "; ".join(items) or "none recorded"
+        if name == "deviations":
+            return survey["deviations"] or ("none: the crew stated there were no deviations from the monitoring plan"
+                                             if survey["no_deviations"] else "not stated")
+        if name == "camera_check":
+            return words(survey["camera_check"])
+        return str(survey[name] or "") or "not recorded"
+
+    rows = [("Date of the survey", local_time(survey["started_at"], zone)[:10], True),
+            ("Method", words(survey["method"]).upper(), True)]
+    order = list(required) + [n for n in RECORD_LABELS if n not in required]
+    return rows + [(RECORD_LABELS[n], value(n), n in required) for n in order]
+
+
+def site_identifiers(site: dict[str, Any]) -> list[tuple[str, str]]:
+    """Facility / permit id and coordinates (decimal degrees to 4 places) as label/value pairs."""
+    lat, lon = site.get("latitude"), site.get("longitude")
+    coords = (f"{lat:.4f}, {lon:.4f}" if lat is not None and lon is not None else "not recorded")
+    return [("Facility / permit id", site.get("facility_id") or "not recorded"),
+            ("Latitude, longitude (decimal degrees)", coords),
+            ("Datum", site.get("datum") or "not recorded"), ("Site kind", words(site["kind"])),
+            ("Operator", site["operator"] or "not recorded"), ("Location", site["location"] or "-"),
+            ("Time zone", site["timezone"])]
 
 
 @dataclass
@@ -144,6 +311,14 @@ class SurveyReport:
     made_at: str
     as_of: str = ""
     gwp_set: str = GWP_SET
+    record: list[tuple[str, str, bool]] = field(default_factory=list)
+    record_citation: str = ""
+    identifiers: list[tuple[str, str]] = field(default_factory=list)
+    components_by_type: dict[str, int] = field(default_factory=dict)
+    not_monitored: list[dict[str, str]] = field(default_factory=list)
+    by_state: dict[str, int] = field(default_factory=dict)
+    made_at_local: str = ""
+    certification: str = CERTIFICATION
 
 
 def tag_cautions(store: Store, site_ids: set[str]) -> tuple[str, ...]:
@@ -173,9 +348,23 @@ def survey_report(store: Store, survey_id: str, as_of: date | None = None) -> Su
         if line.methane_kg_per_h is not None and line.state != "void":
             methane[line.component_type] += line.methane_kg_per_h
     prog = {"id": program.id, "title": program.title, "rule": program.rule, "notice": program.notice}
-    return SurveyReport(site, prog, survey, lines, dict(sorted(by_type.items())), dict(sorted(methane.items())),
-                        CAUTIONS + tag_cautions(store, {site["id"]}),
-                        fingerprint(site, survey, [asdict(x) for x in lines]), store.now_text(), as_of.isoformat())
+    required = tuple(program.survey_records.value) if program.survey_records else ()
+    comps = store.rows("SELECT tag, type, difficult_to_monitor, unsafe_to_monitor FROM components WHERE site_id = ? "
+                       "AND deleted = 0 ORDER BY tag", (site["id"],))
+    made = store.now_text()
+    return SurveyReport(
+        site, prog, survey, lines, dict(sorted(by_type.items())), dict(sorted(methane.items())),
+        CAUTIONS + tag_cautions(store, {site["id"]}), fingerprint(site, survey, [asdict(x) for x in lines]), made,
+        as_of.isoformat(), record=record_fields(survey, required, site["timezone"]),
+        record_citation=program.survey_records.citation if program.survey_records else "",
+        identifiers=site_identifiers(site),
+        components_by_type=dict(sorted(Counter(words(c["type"]) for c in comps).items())),
+        not_monitored=[{"tag": c["tag"], "type": words(c["type"]),
+                        "flag": " and ".join(w for w, k in (("difficult to monitor", "difficult_to_monitor"),
+                                                            ("unsafe to monitor", "unsafe_to_monitor")) if c[k])}
+                       for c in comps if c["difficult_to_monitor"] or c["unsafe_to_monitor"]],
+        by_state=dict(sorted(Counter(words(x.state) for x in lines).items())),
+        made_at_local=local_time(made, site["timezone"]))
 
 
 @dataclass
@@ -196,6 +385,40 @@ class SiteSummary:
     methane_kg: float
     co2e_t_100yr: float
     co2e_t_20yr: float
+    surveys: list[dict[str, str]] = field(default_factory=list)
+    leaks: list[LeakLine] = field(default_factory=list)
+    confirmed: int = 0
+    not_confirmed: int = 0
+    leaks_by_type: dict[str, int] = field(default_factory=dict)
+    not_monitored: list[dict[str, str]] = field(default_factory=list)
+    facility_id: str = ""
+    coordinates: str = ""
+    record_citation: str = ""
+
+
+# the survey columns of the period summary: 60.5420a(c)(15)(vii)(A)-(G) / 60.5420b(b)(9)(ii)(A)-(C)
+PERIOD_SURVEY_FIELDS = ("started_at", "ended_at", "operator", "qualification", "camera_model", "camera_check",
+                        "ambient_temp_c", "sky", "wind_max_m_s", "deviations")
+
+
+def _record_citation(program_id: str) -> str:
+    program = catalog.program(program_id)
+    return program.survey_records.citation if program.survey_records else ""
+
+
+def _survey_rows(store: Store, site: dict[str, Any], start: date, end: date) -> list[dict[str, str]]:
+    """Each survey of the site in the period with its record fields, in words."""
+    rows = store.rows("SELECT v.*, (SELECT COUNT(*) FROM leaks l WHERE l.survey_id = v.id AND l.deleted = 0) AS "
+                      "leak_count FROM surveys v WHERE v.site_id = ? AND v.deleted = 0 AND substr(v.started_at, 1, 10) "
+                      "BETWEEN ? AND ? ORDER BY v.started_at", (site["id"], start.isoformat(), end.isoformat()))
+    out = []
+    for r in rows:
+        record = {label: value for label, value, _req in record_fields(r, PERIOD_SURVEY_FIELDS, site["timezone"])}
+        record["Instrument"] = f"{r['camera_make']} {r['camera_model']} {r['camera_serial']}".strip() or "not recorded"
+        record["Leaks found"] = str(r["leak_count"])
+        record["survey_id"] = r["id"]
+        out.append(record)
+    return out
 
 
 @dataclass
@@ -212,6 +435,8 @@ class PeriodReport:
     gwp_set: str = GWP_SET
     duration_rule: str = ""
     not_estimated: tuple[str, ...] = ()
+    certification: str = CERTIFICATION
+    made_at_local: str = ""
 
 
 def period_report(store: Store, start: date, end: date, site_id: str | None = None,
@@ -230,9 +455,9 @@ def period_report(store: Store, start: date, end: date, site_id: str | None = No
         surveys = [r["started_at"][:10] + " " + r["method"] for r in store.rows(
             "SELECT started_at, method FROM surveys WHERE site_id = ? AND deleted = 0 AND substr(started_at, 1, 10) "
             "BETWEEN ? AND ? ORDER BY started_at", (site["id"], start.isoformat(), end.isoformat()))]
-        overdue = [f"{i.kind} {i.tag or i.method} due {i.due}" for i in due
+        overdue = [f"{words(i.kind)} {i.tag or words(i.method)} due {i.due}" for i in due
                    if i.site_id == site["id"] and i.overdue(end)]
-        missed = [f"{i.method} survey due by {i.due}" for i in due
+        missed = [f"{words(i.method)} survey due by {i.due}" for i in due
                   if i.site_id == site["id"] and i.kind == "survey" and i.overdue(end)]
         total = emissions.by_site.get(site["name"])
         kg = total.methane_kg if total else 0.0
@@ -241,7 +466,22 @@ def period_report(store: Store, start: date, end: date, site_id: str | None = No
             site["name"], site["id"], site["program_id"], surveys, missed, len(mine),
             sum(1 for x in mine if x.state in ("repaired", "closed")), sum(1 for x in mine if x.state == "delayed"),
             sum(1 for x in mine if x.state in ("open", "attempted")), sum(1 for x in mine if x.state == "void"),
-            overdue, kg, h[100] / 1000, h[20] / 1000))
+            overdue, kg, h[100] / 1000, h[20] / 1000, surveys=_survey_rows(store, site, start, end), leaks=mine,
+            confirmed=sum(1 for x in mine if x.state == "closed"),
+            not_confirmed=sum(1 for x in mine if x.state == "repaired"),
+            leaks_by_type=dict(sorted(Counter(words(x.component_type) for x in mine if x.state != "void").items())),
+            not_monitored=[{"tag": c["tag"], "type": words(c["type"]), "flag": " and ".join(
+                w for w, k in (("difficult to monitor", "difficult_to_monitor"), ("unsafe to monitor",
+                                                                                  "unsafe_to_monitor")) if c[k])}
+                for c in store.rows("SELECT * FROM components WHERE site_id = ? AND deleted = 0 AND "
+                                    "(difficult_to_monitor = 1 OR unsafe_to_monitor = 1) ORDER BY tag",
+                                    (site["id"],))],
+            record_citation=_record_citation(site["program_id"]),
+            facility_id=site.get("facility_id") or "", coordinates=dict(site_identifiers(site))[
+                "Latitude, longitude (decimal degrees)"]))
+    made = store.now_text()
+    zone = sites[0]["timezone"] if sites and len({x["timezone"] for x in sites}) == 1 else "UTC"
     return PeriodReport(start, end, convention, summaries, CAUTIONS + tag_cautions(store, {s["id"] for s in sites}),
-                        fingerprint([asdict(s) for s in summaries], [asdict(x) for x in lines]), store.now_text(),
-                        duration_rule=emissions.rule_text, not_estimated=tuple(skipped))
+                        fingerprint([asdict(s) for s in summaries], [asdict(x) for x in lines]), made,
+                        duration_rule=emissions.rule_text, not_estimated=tuple(skipped),
+                        made_at_local=local_time(made, zone))

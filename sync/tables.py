@@ -64,8 +64,30 @@ def to_csv(rows: Iterable[dict[str, Any]], columns: Sequence[str]) -> str:
     return out.getvalue()
 
 
+FORMULA_START = ("=", "+", "-", "@", "\t", "\r", "'")
+
+
+def guard(text: str) -> str:
+    """A text cell a spreadsheet will not run as a formula: one apostrophe before a leading = + - @ tab CR.
+
+    A text that already starts with an apostrophe gets one too, so ``unguard`` restores every text exactly.
+    Numbers are never guarded (a negative number stays a number).
+    """
+    return "'" + text if text.startswith(FORMULA_START) else text
+
+
+def unguard(text: str) -> str:
+    """The text ``guard`` was given (for readers of our CSV files)."""
+    return text[1:] if text.startswith("'") else text
+
+
 def cell(value: Any) -> Any:
-    """A CSV cell: true/false for booleans, empty for None, floats to 6 significant figures."""
+    """A CSV cell: true/false for booleans, empty for None, floats to 6 significant figures, texts guarded
+    against formula execution (``guard``), lists joined with ';'."""
+    if isinstance(value, list | tuple):
+        value = ";".join(str(v) for v in value)
+    if isinstance(value, str):
+        return guard(value)
     if value is True:
         return "true"
     if value is False:

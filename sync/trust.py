@@ -17,7 +17,6 @@ the whole bundle.
 
 from __future__ import annotations
 
-import os
 import re
 from pathlib import Path
 from typing import Any
@@ -56,8 +55,7 @@ def _private_key(store: Store) -> Ed25519PrivateKey:
     folder.mkdir(parents=True, exist_ok=True)
     pem = key.private_bytes(serialization.Encoding.PEM, serialization.PrivateFormat.PKCS8,
                             serialization.NoEncryption())
-    write_bytes(path, pem)
-    os.chmod(path, 0o600)
+    write_bytes(path, pem, mode=0o600)
     write_bytes(folder / "device.pub", (_hex(key.public_key()) + "\n").encode())
     write_bytes(owner, (store.device_id + "\n").encode())
     return key

@@ -66,6 +66,8 @@ def _world(tmp_path_factory):
     conn = sqlite3.connect(db)
     leak = conn.execute("SELECT id FROM leaks WHERE deleted = 0 ORDER BY id LIMIT 1").fetchone()[0]
     survey = conn.execute("SELECT id FROM surveys ORDER BY id LIMIT 1").fetchone()[0]
+    # the in-process demo store may still be open (WAL): fold the WAL into the file, since tests copy the file
+    conn.execute("PRAGMA wal_checkpoint(TRUNCATE)")
     conn.close()
     files = root / "files"
     files.mkdir()

@@ -35,7 +35,7 @@ def test_survey_pdf_holds_tags_dates_conditions_and_cautions(demo_store):
         if line.first_attempt_due:
             assert line.first_attempt_due in text
     assert report.survey["operator"] in text and report.survey["camera_serial"] in text
-    assert "PASSED" in text and "follow the current rule text" in text.lower()
+    assert "Daily verification passed" in " ".join(text.split()) and "follow the current rule text" in text.lower()
     assert "HAZARD" in text  # TD-0051 carries the hazard flag in the demo
     assert "OVERDUE" in text
     assert report.fingerprint in text.replace("\n", "")
@@ -58,7 +58,7 @@ def test_period_pdf_holds_per_site_totals(demo_store):
 
 def test_csv_matches_the_report_model_and_reads_back(demo_store, tmp_path):
     paths = export_csv(demo_store, tmp_path / "out")
-    assert [p.name for p in paths] == ["leaks.csv", "surveys.csv", "actions.csv", "components.csv"]
+    assert [p.name for p in paths] == ["leaks.csv", "surveys.csv", "actions.csv", "components.csv", "legend.csv"]
     with open(tmp_path / "out" / "leaks.csv", encoding="utf-8", newline="") as fh:
         reader = csv.DictReader(fh)
         assert tuple(reader.fieldnames) == LEAK_COLUMNS

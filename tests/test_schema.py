@@ -146,3 +146,20 @@ def test_version_7_file_upgrades_to_non_unique_tags_and_a_devices_table(tmp_path
     store.conn.execute(ADD_T1.format("c2"))
     assert store.conn.execute("SELECT COUNT(*) FROM components WHERE tag = 'T-1'").fetchone()[0] == 2
     assert store.rows("SELECT * FROM devices") == []
+
+
+def test_version_11_file_upgrades_to_site_identifiers_left_unrecorded(tmp_path):
+    """Migration 15: facility / permit id and coordinates; an older site reads as not recorded (no backfill)."""
+    path = tmp_path / "old.db"
+    conn = sqlite3.connect(path, isolation_level=None)
+    schema.migrate(conn, target=11)
+    conn.execute("INSERT INTO sites (id, name, kind, program_id, timezone, methane_mole_fraction) "
+                 "VALUES ('s1', 'Old pad', 'well_site', 'us-nsps-oooo-a', 'America/Denver', 0.8)")
+    conn.close()
+    store = Store(path)
+    assert schema.current_version(store.conn) == schema.LATEST >= 15
+    site = store.get("sites", "s1")
+    assert site["facility_id"] == "" and site["latitude"] is None and site["longitude"] is None
+    from sync.report_model import site_identifiers
+
+    assert dict(site_identifiers(site))["Latitude, longitude (decimal degrees)"] == "not recorded"

@@ -19,6 +19,8 @@ def register(sub: argparse._SubParsersAction) -> None:
     c.add_argument("--from", dest="start")
     c.add_argument("--to", dest="end")
     c.add_argument("--site")
+    c.add_argument("--bom", action="store_true",
+                   help="start each file with a UTF-8 byte order mark, so spreadsheets on Windows read ° and § right")
     c.set_defaults(handler=cmd_csv)
     p = sub.add_parser("report", help="PDF reports")
     what = p.add_subparsers(dest="what", required=True, metavar="WHAT")
@@ -56,7 +58,7 @@ def cmd_csv(args: argparse.Namespace) -> int:
     required_text(args.site, "site")
     output_folder(args.out, "out")
     store = open_store(args)
-    for path in export_csv(store, args.out, start, end, _site(store, args.site)):
+    for path in export_csv(store, args.out, start, end, _site(store, args.site), bom=args.bom):
         print(path)
     return 0
 

@@ -80,6 +80,9 @@ class Estimate:
     assumptions: tuple[str, ...] = ()
     segment: str = ""
     table_reason: str = ""
+    factor_key: str = ""  # the factor row's key (component/service/method...), or the correlation class
+    factor_value: float | None = None  # the factor's value (None for a correlation or a measurement)
+    factor_unit: str = ""
 
 
 def _composition(leak: LeakInput) -> dict:
@@ -158,7 +161,9 @@ def _correlation(leak: LeakInput, book: FactorBook, eq) -> Estimate:
     reason = (f"{_segment_text(leak, book)}: a Method 21 screening value was recorded, and "
               f"{book.set_info['epa-453-correlation'].label} declare this segment")
     return Estimate(kg, None, basis, "epa-453-correlation", row, eq.citation, eq.status, eq.verified,
-                    _composition(leak), tuple(notes), leak.segment.value, reason)
+                    _composition(leak), tuple(notes), leak.segment.value, reason, epa_class,
+                    kg_toc if basis in ("pegged", "default_zero") else None, "kg TOC/h" if basis in (
+                        "pegged", "default_zero") else "")
 
 
 def _leaker_candidates(leak: LeakInput, book: FactorBook, factor_set: str) -> Factor | None:
@@ -228,7 +233,8 @@ def _leaker(leak: LeakInput, book: FactorBook, factor_set: str | None) -> Estima
         else:
             scf, kg = None, factor.value
         return Estimate(kg, scf, "leaker_factor", factor.factor_set, factor.describe(), factor.citation,
-                        factor.status, factor.verified, _composition(leak), tuple(notes), segment.value, why)
+                        factor.status, factor.verified, _composition(leak), tuple(notes), segment.value, why,
+                        "/".join(k for k in factor.key if k), factor.value, factor.unit)
     if order:
         found = (f"{seg_text} is served by {', '.join(n for n, _w in order)}, which has no leaker factor for "
                  f"{leak.component_type.value} in {leak.service.value} service")

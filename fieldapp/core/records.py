@@ -57,6 +57,10 @@ class Site:
     emergency_note: str = _spec(f.text(500), False, "", doc="site emergency contact or procedure reference")
     segment: IndustrySegment | None = _spec(f.enum_of(IndustrySegment), False, None,
                                             doc="industry segment, 40 CFR 98.230(a); picks the factor tables")
+    facility_id: str = _spec(f.text(64, single_line=True), False, "", doc="facility or permit id for filings")
+    latitude: float | None = _spec(f.number(-90, 90), doc="decimal degrees, north positive")
+    longitude: float | None = _spec(f.number(-180, 180), doc="decimal degrees, east positive")
+    datum: str = _spec(f.text(32, single_line=True), False, "", doc="datum of the coordinates, e.g. NAD83")
 
 
 @dataclass(frozen=True, slots=True)

@@ -232,6 +232,19 @@ def _v11(conn: sqlite3.Connection) -> None:
     """)
 
 
+@migration(15, "site identifiers for filings")
+def _v15(conn: sqlite3.Connection) -> None:
+    # facility or permit id and the site's coordinates (decimal degrees) for the survey report's site block
+    # (OOOOb asks for latitude and longitude to four decimal places for sites in a monitoring plan).
+    # No backfill: empty / NULL means not recorded, and the report says so.
+    run_script(conn, """
+        ALTER TABLE sites ADD COLUMN facility_id TEXT NOT NULL DEFAULT '';
+        ALTER TABLE sites ADD COLUMN latitude REAL;
+        ALTER TABLE sites ADD COLUMN longitude REAL;
+        ALTER TABLE sites ADD COLUMN datum TEXT NOT NULL DEFAULT '';
+    """)
+
+
 LATEST = MIGRATIONS[-1][0]
 
 
