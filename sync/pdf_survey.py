@@ -86,8 +86,8 @@ def _leak_block(store: Store, line, report: SurveyReport) -> list:
                           f"procedures before approaching. {report.site.get('emergency_note', '')}", "hazard"))
     info = fields([
         ("Location", line.location_note), ("Detected", when(line.detected_at)),
-        ("Screening value", f"{_num(line.screening_ppm)} ppmv" if line.screening_ppm is not None else "-"),
-        ("Measured rate", f"{_num(line.measured_rate)} {line.measured_unit} ({line.measured_instrument or '-'})"
+        ("Screening", f"{_num(line.screening_ppm)} ppmv" if line.screening_ppm is not None else "-"),
+        ("Measured", f"{_num(line.measured_rate)} {line.measured_unit} ({line.measured_instrument or '-'})"
          if line.measured_rate is not None else "-"),
         ("Estimate", f"{_num(line.methane_kg_per_h)} kg CH4/h ({words(line.basis)})"),
         ("CO2e", f"{_num(line.co2e_kg_per_h_100yr)} kg/h 100-yr, {_num(line.co2e_kg_per_h_20yr)} kg/h 20-yr "
