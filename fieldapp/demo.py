@@ -57,7 +57,8 @@ def load(store: Store, today: date | None = None) -> dict[str, int]:
             start = datetime.combine(zone_today + timedelta(days=entry["day"]), time(entry["hour"]), site["tz"])
             values = {**scenario["crews"][entry["crew"]], "site_id": site["id"], "method": "ogi",
                       "started_at": start, "camera_check": "passed", "camera_check_note": entry["check_note"],
-                      **{k: entry[k] for k in ("ambient_temp_c", "wind_speed_m_s", "wind_max_m_s", "sky", "areas")}}
+                      **{k: entry[k] for k in ("ambient_temp_c", "wind_speed_m_s", "wind_max_m_s", "sky", "areas")},
+                      **({"compressor_modes": entry["compressor_modes"]} if "compressor_modes" in entry else {})}
             survey, _warnings = ops.start_survey(store, values, ACTOR)
             ops.end_survey(store, survey.id, {
                 "ended_at": start + timedelta(hours=4), "areas_done": entry["areas"],

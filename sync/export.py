@@ -51,7 +51,7 @@ LEGEND = (
 SURVEY_COLUMNS = (
     "survey_id", "site", "site_id", "method", "started_at", "ended_at", "operator", "qualification", "camera_make",
     "camera_model", "camera_serial", "camera_check", "camera_check_note", "ambient_temp_c", "wind_speed_m_s",
-    "wind_max_m_s", "sky", "areas", "areas_done", "deviations", "no_deviations", "leak_count",
+    "wind_max_m_s", "sky", "areas", "areas_done", "deviations", "no_deviations", "leak_count", "compressor_modes",
 )
 ACTION_COLUMNS = ("action_id", "leak_id", "site", "tag", "kind", "done_on", "actor", "reason", "planned_on",
                   "shutdown_on", "instrument", "note", "recorded_at")

@@ -256,6 +256,7 @@ RECORD_LABELS = {
     "camera_check_note": "Daily verification note", "ambient_temp_c": "Ambient temperature", "sky": "Sky conditions",
     "wind_speed_m_s": "Wind speed", "wind_max_m_s": "Maximum wind speed", "areas": "Areas planned",
     "areas_done": "Areas covered", "deviations": "Deviations from the monitoring plan",
+    "compressor_modes": "Compressor operating modes",
 }
 
 

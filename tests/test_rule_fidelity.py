@@ -188,7 +188,8 @@ def test_60_5397a_h_3_i_shutdown_route_earliest_of_shutdown_and_two_years():
 def _ogi_survey(store, site_id, day="2026-11-20"):
     values = {"site_id": site_id, "method": "ogi", "started_at": f"{day}T08:00:00-07:00", "operator": "Tester",
               "qualification": "trained", "camera_make": "Make", "camera_model": "Model", "camera_check": "passed",
-              "ambient_temp_c": "5", "sky": "clear", "wind_max_m_s": "3"}
+              "ambient_temp_c": "5", "sky": "clear", "wind_max_m_s": "3",
+              "compressor_modes": "C-1 operating"}  # 60.5420a(c)(15)(vii)(F) at stations
     return ops.start_survey(store, values)[0]
 
 
@@ -430,3 +431,20 @@ def test_demo_holds_an_avo_found_oooob_leak_and_a_delay_waiting_for_parts(demo_s
     assert len(parts) == 1 and parts[0]["parts_ordered_on"] and parts[0]["parts_received_on"] is None
     waiting = [i for i in items.values() if i.kind == "delay_limit" and i.due is None]
     assert len(waiting) == 1  # the limit is set only when the replacement is received
+
+
+def test_compressor_station_survey_without_compressor_modes_is_warned(demo_store):
+    # 40 CFR 60.5420a(c)(15)(vii)(F) [text, eCFR 9/11/2026]: "For compressor stations, operating mode of each
+    # compressor ... at the station at the time of the survey." Recorded on the survey; missing -> a warning.
+    from fieldapp.store import ops
+
+    station = demo_store.rows("SELECT id FROM sites WHERE kind = 'compressor_station'")[0]["id"]
+    surveys = demo_store.rows("SELECT id, compressor_modes FROM surveys WHERE site_id = ?", (station,))
+    assert surveys and all(s["compressor_modes"] for s in surveys)  # the demo records them
+    assert not any("operating mode" in w for w in ops.survey_record_warnings(demo_store, surveys[0]["id"]))
+    ops.edit(demo_store, "surveys", surveys[0]["id"], {"compressor_modes": ""})
+    warnings = ops.survey_record_warnings(demo_store, surveys[0]["id"])
+    assert any("operating mode of each compressor" in w and "60.5420a(c)(15)(vii)(F)" in w for w in warnings)
+    pad = demo_store.rows("SELECT v.id FROM surveys v JOIN sites s ON s.id = v.site_id "
+                          "WHERE s.kind != 'compressor_station'")[0]["id"]
+    assert not any("operating mode" in w for w in ops.survey_record_warnings(demo_store, pad))  # stations only

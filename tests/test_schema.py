@@ -163,3 +163,18 @@ def test_version_11_file_upgrades_to_site_identifiers_left_unrecorded(tmp_path):
     from sync.report_model import site_identifiers
 
     assert dict(site_identifiers(site))["Latitude, longitude (decimal degrees)"] == "not recorded"
+
+
+def test_version_15_file_upgrades_to_16_with_empty_compressor_modes(tmp_path):
+    """Migration 16: surveys gain compressor_modes (40 CFR 60.5420a(c)(15)(vii)(F) [text]); old rows read ''."""
+    path = tmp_path / "v15.db"
+    conn = sqlite3.connect(path, isolation_level=None)
+    assert schema.migrate(conn, target=15)[-1] == 15
+    conn.execute("INSERT INTO sites (id, name, kind, program_id, timezone, methane_mole_fraction) "
+                 "VALUES ('s1', 'Old station', 'compressor_station', 'us-nsps-oooo-a', 'America/Denver', 0.8)")
+    conn.execute("INSERT INTO surveys (id, site_id, method, started_at, operator) "
+                 "VALUES ('v1', 's1', 'ogi', '2026-11-30T08:00:00-07:00', 'T')")
+    conn.close()
+    store = Store(path)
+    assert schema.current_version(store.conn) == schema.LATEST >= 16
+    assert store.get("surveys", "v1")["compressor_modes"] == ""

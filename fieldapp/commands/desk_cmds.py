@@ -31,7 +31,7 @@ OPTION_OF = {
 ACTION_WORDS = {kind.value.replace("_", "-"): kind for kind in ActionKind}
 
 SURVEY_TEXT = ("operator", "qualification", "camera_make", "camera_model", "camera_serial", "camera_check_note",
-               "sky", "areas")
+               "sky", "areas", "compressor_modes")
 LEAK_TEXT = ("location_note", "screening_ppm", "measured_rate", "measured_unit", "measured_instrument",
              "hazard_note", "detection_method")
 ACTION_TEXT = ("note", "reason", "planned_on", "shutdown_on", "instrument", "method", "delay_kind",
@@ -72,6 +72,8 @@ def register(sub: argparse._SubParsersAction) -> None:
     s.add_argument("--wind-unit", help="m/s, mph, km/h or kn (default m/s)")
     s.add_argument("--sky", help="sky conditions, e.g. clear, overcast")
     s.add_argument("--areas", help="areas planned, separated by semicolons")
+    s.add_argument("--compressor-modes", help="compressor stations: the operating mode of each compressor "
+                   "(operating, standby pressurized, not operating-depressurized)")
     s.add_argument("--json", action="store_true")
     s.set_defaults(handler=cmd_survey_start)
     e = what.add_parser("end", help="end a survey with areas done and deviations (or --no-deviations)")

@@ -26,7 +26,7 @@ PERIODS = ("month", "bimonth", "quarter", "half", "year")
 # the statement that there were none; ended_at, areas_done and deviations are checked when a survey ends.
 SURVEY_RECORD_FIELDS = ("started_at", "ended_at", "operator", "qualification", "camera_make", "camera_model",
                         "camera_serial", "camera_check", "camera_check_note", "ambient_temp_c", "sky",
-                        "wind_speed_m_s", "wind_max_m_s", "areas", "areas_done", "deviations")
+                        "wind_speed_m_s", "wind_max_m_s", "areas", "areas_done", "deviations", "compressor_modes")
 
 
 @dataclass(frozen=True, slots=True)

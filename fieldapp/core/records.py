@@ -98,6 +98,8 @@ class Survey:
     wind_speed_m_s: float | None = _spec(f.number(0, 60, "m/s"))
     wind_max_m_s: float | None = _spec(f.number(0, 80, "m/s"))
     sky: str = _spec(f.text(80), False, "", doc="sky conditions, e.g. clear, overcast")
+    compressor_modes: str = _spec(f.text(500), False, "", doc="operating mode of each compressor at the time of "
+                                  "the survey (operating, standby pressurized, not operating-depressurized)")
     areas: tuple[str, ...] = _spec(f.text_list, False, ())
     areas_done: tuple[str, ...] = _spec(f.text_list, False, ())
     deviations: str = _spec(f.text(2000), False, "", doc="deviations from the monitoring plan")

@@ -102,6 +102,17 @@ def condition_warnings(program: Program, survey: Survey) -> list[str]:
     return out
 
 
+def compressor_modes_missing(program: Program, site_kind: str, survey: Mapping[str, Any]) -> list[FieldProblem]:
+    """A compressor-station survey without the operating mode of each compressor, under a program whose
+    survey records ask for it (``leak_records.compressor_modes_at_stations``); a warning, not a refusal."""
+    rule = (program.leak_records or {}).get("compressor_modes_at_stations")
+    if rule is None or not rule.value or site_kind != "compressor_station" or not is_blank(
+            survey.get("compressor_modes")):
+        return []
+    return [FieldProblem("compressor_modes", "the operating mode of each compressor at the time of the survey is not "
+                         f"recorded ({rule.citation}, status {rule.status})")]
+
+
 def unrepaired_without_record(program: Program, leaks: Sequence[Mapping[str, Any]]) -> list[FieldProblem]:
     """Leaks left unrepaired at the end of their survey that have neither a photo nor a tag.
 

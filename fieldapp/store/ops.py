@@ -159,7 +159,8 @@ def survey_record_warnings(store: Store, survey_id: str) -> list[str]:
         repaired = store.rows("SELECT 1 FROM actions WHERE leak_id = ? AND kind = 'repaired' AND done_on <= ?",
                               (leak["id"], end_day or "")) if end_day else []
         leak["repaired_in_survey"] = bool(repaired)
-    return [p.message for p in survey_rules.unrepaired_without_record(program, leaks)]
+    problems = survey_rules.compressor_modes_missing(program, site["kind"], survey)
+    return [p.message for p in problems + survey_rules.unrepaired_without_record(program, leaks)]
 
 
 def add_leak(store: Store, values: Mapping[str, Any], new_component: Mapping[str, Any] | None = None,

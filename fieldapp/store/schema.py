@@ -245,6 +245,12 @@ def _v15(conn: sqlite3.Connection) -> None:
     """)
 
 
+@migration(16, "compressor operating modes of a survey")
+def _v16(conn: sqlite3.Connection) -> None:
+    # 40 CFR 60.5420a(c)(15)(vii)(F), 60.5420b(c)(14)(v)(F): at compressor stations, the mode of each compressor
+    run_script(conn, "ALTER TABLE surveys ADD COLUMN compressor_modes TEXT NOT NULL DEFAULT '';")
+
+
 LATEST = MIGRATIONS[-1][0]
 
 

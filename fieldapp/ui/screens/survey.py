@@ -32,6 +32,7 @@ FIELDS = [
     ("wind_max_m_s", "Maximum wind ({s})", "number", ()),
     ("sky", "Sky conditions", "choice", SKY),
     ("areas", "Areas to cover (separate with ;)", "text", ()),
+    ("compressor_modes", "Compressor modes (stations only)", "text", ()),
 ]
 
 
