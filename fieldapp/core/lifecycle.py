@@ -253,7 +253,7 @@ def deadlines(program: Program, facts: LeakFacts, is_holiday: HolidayTest = no_h
         out.append(_make(final, final_due, facts.first_repair_on, note))
     limit = None
     if facts.delay and program.delay:
-        out.extend(delay_deadlines(program, facts, is_holiday))
+        out.extend(delay_deadlines(program, facts, is_holiday, first_due))
         limit = next((d for d in out if d.kind == "delay_limit"), None)
     resurvey = rules.get("resurvey")
     if resurvey and facts.repaired_on:
@@ -270,13 +270,18 @@ def deadlines(program: Program, facts: LeakFacts, is_holiday: HolidayTest = no_h
     return out
 
 
-def delay_deadlines(program: Program, facts: LeakFacts, is_holiday: HolidayTest = no_holidays) -> list[Deadline]:
-    """Deadlines of the delay of repair in force: the parts order (parts route) and the delay limit."""
+def delay_deadlines(program: Program, facts: LeakFacts, is_holiday: HolidayTest = no_holidays,
+                    first_due: date | None = None) -> list[Deadline]:
+    """Deadlines of the delay of repair in force: the parts order (parts route) and the delay limit.
+
+    ``first_due`` is the first-attempt deadline when the caller already has it (else it is computed).
+    """
     rule = program.delay
     assert rule is not None and facts.delay is not None
     if facts.delay.kind is DelayKind.PARTS and rule.parts is not None:
         parts = rule.parts
-        first_due, _final = _final_due(program, facts, is_holiday)
+        if first_due is None:
+            first_due = _final_due(program, facts, is_holiday)[0]
         candidates = [d for d in (facts.first_attempt_on, first_due) if d is not None]
         base = min(candidates) if parts.order.start == "first_attempt" and candidates else facts.detected_on
         order = _make(parts.order, _due(parts.order, base, is_holiday), facts.delay.parts_ordered_on)

@@ -155,10 +155,11 @@ def survey_record_warnings(store: Store, survey_id: str) -> list[str]:
     end_day = None
     if survey["ended_at"]:
         end_day = local_date(datetime.fromisoformat(survey["ended_at"]), site["timezone"]).isoformat()
+    repaired = {r["leak_id"] for r in store.rows(
+        "SELECT DISTINCT a.leak_id FROM actions a JOIN leaks l ON l.id = a.leak_id WHERE l.survey_id = ? "
+        "AND a.kind = 'repaired' AND a.done_on <= ?", (survey_id, end_day))} if end_day else set()
     for leak in leaks:
-        repaired = store.rows("SELECT 1 FROM actions WHERE leak_id = ? AND kind = 'repaired' AND done_on <= ?",
-                              (leak["id"], end_day or "")) if end_day else []
-        leak["repaired_in_survey"] = bool(repaired)
+        leak["repaired_in_survey"] = leak["id"] in repaired
     problems = survey_rules.compressor_modes_missing(program, site["kind"], survey)
     return [p.message for p in problems + survey_rules.unrepaired_without_record(program, leaks)]
 
