@@ -21,7 +21,8 @@ LEAK_COLUMNS = (
     "detected_on", "state", "hazard", "first_attempt_on", "first_attempt_due", "repaired_on", "final_repair_due",
     "resurveyed_on", "resurvey_due", "delay_on", "delay_reason", "delay_shutdown_on", "delay_limit", "late", "overdue",
     "basis", "factor_row", "methane_kg_per_h", "co2e_kg_per_h_100yr", "co2e_kg_per_h_20yr", "gwp_set",
-    "estimate_source", "factor_set", "factor_key", "factor_value", "factor_unit", "screening_ppm", "measured_rate",
+    "estimate_source", "factor_set", "factor_key", "factor_value", "factor_unit", "factor_terms",
+    "screening_ppm", "measured_rate",
     "measured_unit", "measured_instrument",
     "hazard_note", "repeat_leaker", "program_id", "detection_method", "first_attempt_by", "repaired_by",
     "resurvey_method", "resurvey_instrument", "resurveyed_by", "delay_kind", "parts_ordered_on", "parts_received_on",
@@ -42,7 +43,12 @@ LEGEND = (
     ("basis", "leaker_factor", "published leaker emission factor for the component type and service"),
     ("basis", "correlation", "Method 21 screening value through a published correlation equation"),
     ("basis", "pegged", "screening value at the instrument limit: the published pegged rate"),
+    ("basis", "default_zero", "screening value of 0 ppmv: the published default-zero rate"),
     ("basis", "measured", "rate measured and entered by the user"),
+    ("factor_set", "", "empty for a measured rate (no factor table) or when not estimated"),
+    ("factor_key", "measurement", "a measured rate: factor_value and factor_unit hold the rate as entered"),
+    ("factor_value", "", "the table row's value; for a correlation, the TOC rate the equation gives at the screening "
+                         "value (factor_terms holds a, b and SV); for a measurement, the measured rate"),
     ("basis", "no_factor", "no published factor shipped for this component and service: not estimated"),
     ("photo_sha256", "", "SHA-256 of each original photo, ';'-separated; the originals are kept byte for byte"),
     ("(any text)", "'", "a text starting with = + - @ tab, CR or ' is written with one extra leading apostrophe "

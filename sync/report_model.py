@@ -91,6 +91,7 @@ class LeakLine:
     factor_key: str = ""
     factor_value: float | None = None
     factor_unit: str = ""
+    factor_terms: str = ""
     photos: list[dict[str, str]] = field(default_factory=list)
     timeline: list[dict[str, str]] = field(default_factory=list)
 
@@ -219,7 +220,7 @@ def _extra(row: dict[str, Any], f, actions: list[dict[str, Any]], media: list[di
     resurvey = _last(actions, "resurvey_passed", "resurvey_failed")
     factor = {} if isinstance(rate, EstimateError) else {
         "factor_set": rate.factor_set, "factor_key": rate.factor_key, "factor_value": rate.factor_value,
-        "factor_unit": rate.factor_unit}
+        "factor_unit": rate.factor_unit, "factor_terms": rate.factor_terms}
     return {
         "screening_ppm": row["screening_ppm"], "measured_rate": row["measured_rate"],
         "measured_unit": row["measured_unit"], "measured_instrument": row["measured_instrument"],

@@ -94,8 +94,11 @@ def test_transmission_meter_leaker_gets_the_w3a_meter_row():
     # W-3A "Meter or Instrument": compressor components 19.33, non-compressor components 2.93 scf/h (OGI) [text]
     on = estimate(leak("instrument", segment=TRANS, compressor_component=True), BOOK)
     off = estimate(leak("instrument", segment=TRANS), BOOK)
-    assert on.factor_row.startswith("w-3a leaker meter_or_instrument/gas/ogi/compressor = 19.33")
-    assert off.factor_row.startswith("w-3a leaker meter_or_instrument/gas/ogi/non_compressor = 2.93")
+    assert on.factor_row.startswith("40 CFR 98 subpart W Table W-3A leaker factor: meter or instrument, gas service, "
+                                    "OGI survey, compressor components = 19.33")
+    assert off.factor_row.startswith("40 CFR 98 subpart W Table W-3A leaker factor: meter or instrument, gas service, "
+                                     "OGI survey, non-compressor components = 2.93")
+    assert (on.factor_set, on.factor_key, on.factor_value) == ("w-3a", "meter_or_instrument/gas/ogi/compressor", 19.33)
     # 2.93 scf/h × 0.9 methane mole fraction × 0.0192 kg/scf = 0.05063 kg/h
     assert off.methane_kg_per_h == pytest.approx(0.0506304)
     assert any("non-compressor" in a for a in off.assumptions)
@@ -197,6 +200,23 @@ def test_correlation_valve_1000_ppm_by_hand():
     # 2.29E-06 × 1000^0.746: log10 = 3 × 0.746 = 2.238 → 10^2.238 = 172.98 → 3.961E-04 kg TOC/h
     result = estimate(leak(screening_ppm=1000, methane_weight_fraction=1.0), BOOK)
     assert result.methane_kg_per_h == pytest.approx(3.961e-4, rel=1e-3)
+
+
+def test_correlation_and_measured_estimates_carry_structured_factor_fields():
+    # the same correlation as above (2.29E-06 × 1000^0.746 = 3.961E-04 kg TOC/h [memory]) filed as table, row
+    # key, value and unit, with the coefficients and the screening value beside it
+    corr = estimate(leak(screening_ppm=1000, methane_weight_fraction=1.0), BOOK)
+    assert (corr.factor_set, corr.factor_key, corr.factor_unit) == ("epa-453-correlation", "valves", "kg TOC/h")
+    assert corr.factor_value == pytest.approx(3.961e-4, rel=1e-3)
+    assert corr.factor_terms == "a = 2.29e-06; b = 0.746; SV = 1000 ppmv"
+    assert "_" not in corr.factor_row and "× SV^0.746 at SV = 1000 ppmv" in corr.factor_row
+    # pegged at 10,000 ppmv: the valve pegged rate 0.064 kg TOC/h is the row value [memory]
+    pegged = estimate(leak(screening_ppm=10_000, pegged_at=10_000, methane_weight_fraction=1), BOOK)
+    assert (pegged.factor_key, pegged.factor_value, pegged.factor_unit) == ("valves", 0.064, "kg TOC/h")
+    measured = estimate(leak(measured_rate=2.5, measured_unit="kg/h", measured_instrument="hi-flow sampler"), BOOK)
+    assert (measured.factor_set, measured.factor_key, measured.factor_value, measured.factor_unit) == (
+        "", "measurement", 2.5, "kg/h")
+    assert measured.factor_row == "measured rate 2.5 kg/h with hi-flow sampler (no factor table)"
 
 
 def test_default_zero_and_pegged_values():

@@ -268,6 +268,11 @@ def test_csv_columns_cover_the_leak_record_and_bom_option(demo_store, tmp_path):
     assert all(len(h) == 64 for r in rows for h in r["photo_sha256"].split(";") if h)
     leaker = [r for r in rows if r["basis"] == "leaker_factor"]
     assert leaker and all(f"= {float(r['factor_value']):g} {r['factor_unit']}" in r["factor_row"] for r in leaker)
+    # the row in words, not codes; every estimated leak, whatever its basis, fills table/key/value/unit
+    assert not any(code in r["factor_row"] for r in rows for code in ("screening_range", "non_compressor", "/gas/"))
+    estimated = [r for r in rows if r["basis"] not in ("no_factor", "")]
+    assert {r["basis"] for r in estimated} - {"leaker_factor"}, "the demo should hold a non-factor estimate"
+    assert all(r["factor_key"] and r["factor_value"] and r["factor_unit"] for r in estimated)
     legend = (tmp_path / "plain" / "legend.csv").read_text(encoding="utf-8")
     assert "memory" in legend and "closed" in legend
 

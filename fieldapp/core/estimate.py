@@ -80,9 +80,10 @@ class Estimate:
     assumptions: tuple[str, ...] = ()
     segment: str = ""
     table_reason: str = ""
-    factor_key: str = ""  # the factor row's key (component/service/method...), or the correlation class
-    factor_value: float | None = None  # the factor's value (None for a correlation or a measurement)
+    factor_key: str = ""  # the factor row's key (component/service/method...), the correlation class, "measurement"
+    factor_value: float | None = None  # the row's value; a correlation's TOC rate at the SV; a measured rate
     factor_unit: str = ""
+    factor_terms: str = ""  # a correlation's coefficients and screening value ("a = ...; b = ...; SV = ... ppmv")
 
 
 def _composition(leak: LeakInput) -> dict:
@@ -132,9 +133,11 @@ def _measured(leak: LeakInput, book: FactorBook) -> Estimate:
         scf = units.convert(rate, unit, "scf/h")
         notes.append("a measured volume rate is taken as whole gas at standard conditions")
         kg = _from_whole_gas(scf, leak, book, notes)
-    return Estimate(kg, scf, "measured", "", f"{rate:g} {unit}", "measurement entered by the user", "measured",
+    who = leak.measured_instrument or "an unnamed instrument"
+    return Estimate(kg, scf, "measured", "", f"measured rate {rate:g} {unit} with {who} (no factor table)",
+                    "measurement entered by the user", "measured",
                     True, _composition(leak), tuple(notes), leak.segment.value if leak.segment else "",
-                    f"{_segment_text(leak, book)}: a measured rate needs no factor table")
+                    f"{_segment_text(leak, book)}: a measured rate needs no factor table", "measurement", rate, unit)
 
 
 def _correlation(leak: LeakInput, book: FactorBook, eq) -> Estimate:
@@ -144,26 +147,28 @@ def _correlation(leak: LeakInput, book: FactorBook, eq) -> Estimate:
     notes: list[str] = _first_notes(leak)
     if leak.pegged_at is not None and leak.pegged_at not in PEGGED_LIMITS:
         raise EstimateError("pegged_at", "allowed: 10000, 100000 (ppmv)")
+    table = book.set_info["epa-453-correlation"].label.split(",")[0]
     if ppm == 0:
-        basis, kg_toc, row = "default_zero", eq.default_zero, f"{epa_class} default-zero rate"
+        basis, kg_toc, terms = "default_zero", eq.default_zero, "SV = 0 ppmv"
+        row = f"{table}: {epa_class}, default-zero rate = {kg_toc:g} kg TOC/h"
         notes.append("screening value 0 ppmv: the default-zero rate applies")
     elif ppm >= 100_000 or (leak.pegged_at is not None and ppm >= leak.pegged_at):
         limit = 100_000.0 if ppm >= 100_000 else leak.pegged_at
         kg_toc = eq.pegged_100000 if limit == 100_000 else eq.pegged_10000
-        basis, row = "pegged", f"{epa_class} pegged at {limit:,.0f} ppmv"
+        basis, terms = "pegged", f"pegged at {limit:.0f} ppmv"
+        row = f"{table}: {epa_class}, pegged rate at {limit:,.0f} ppmv = {kg_toc:g} kg TOC/h"
         notes.append(f"reading pegged at the instrument limit of {limit:,.0f} ppmv: the pegged rate applies")
     else:
         basis, kg_toc = "correlation", eq.rate(ppm)
-        row = f"{epa_class}: {eq.a:g} x SV^{eq.b:g} at SV = {ppm:g} ppmv"
+        terms = f"a = {eq.a:g}; b = {eq.b:g}; SV = {ppm:g} ppmv"
+        row = f"{table}: {epa_class}, {eq.a:g} × SV^{eq.b:g} at SV = {ppm:g} ppmv = {kg_toc:.4g} kg TOC/h"
     kg = _from_toc(kg_toc, leak, notes)
     if not eq.verified:
         notes.append(f"correlation coefficients not verified against the published document ({eq.status})")
     reason = (f"{_segment_text(leak, book)}: a Method 21 screening value was recorded, and "
               f"{book.set_info['epa-453-correlation'].label} declare this segment")
     return Estimate(kg, None, basis, "epa-453-correlation", row, eq.citation, eq.status, eq.verified,
-                    _composition(leak), tuple(notes), leak.segment.value, reason, epa_class,
-                    kg_toc if basis in ("pegged", "default_zero") else None, "kg TOC/h" if basis in (
-                        "pegged", "default_zero") else "")
+                    _composition(leak), tuple(notes), leak.segment.value, reason, epa_class, kg_toc, "kg TOC/h", terms)
 
 
 def _leaker_candidates(leak: LeakInput, book: FactorBook, factor_set: str) -> Factor | None:
@@ -232,7 +237,9 @@ def _leaker(leak: LeakInput, book: FactorBook, factor_set: str | None) -> Estima
             scf, kg = None, _from_toc(factor.value, leak, notes)
         else:
             scf, kg = None, factor.value
-        return Estimate(kg, scf, "leaker_factor", factor.factor_set, factor.describe(), factor.citation,
+        table = book.set_info[factor.factor_set].label.split(",")[0] if factor.factor_set in book.set_info \
+            else factor.factor_set
+        return Estimate(kg, scf, "leaker_factor", factor.factor_set, factor.in_words(table), factor.citation,
                         factor.status, factor.verified, _composition(leak), tuple(notes), segment.value, why,
                         "/".join(k for k in factor.key if k), factor.value, factor.unit)
     if order:
@@ -323,7 +330,8 @@ def inventory_estimate(counts: dict[tuple[ComponentType, Service], int], book: F
             missing.append(f"{count} x {ctype.value} in {service.value} service")
             continue
         total_scf += count * factor.value
-        rows.append((ctype.value, service.value, count, factor.describe()))
+        rows.append((ctype.value, service.value, count, factor.in_words(book.set_info["w-1a"].label.split(",")[0]
+                                                                        if "w-1a" in book.set_info else "w-1a")))
     notes: list[str] = ["population factors estimate an inventory, not the rate of any one leak"]
     kg = _from_whole_gas(total_scf, LeakInput(ComponentType.OTHER, Service.GAS, methane_mole_fraction), book, notes)
     return InventoryEstimate(kg, total_scf, tuple(rows), tuple(missing), tuple(notes))

@@ -26,6 +26,12 @@ BASES = {"kg TOC/h": "toc_mass", "kg CH4/h": "methane_mass", "scf whole gas/h": 
 EPA_SERVICE = {Service.GAS: "gas", Service.LIGHT_LIQUID: "light_oil", Service.HEAVY_LIQUID: "heavy_oil",
                Service.WATER_OIL: "water_oil"}
 W_SERVICE = {Service.GAS: "gas", Service.LIGHT_LIQUID: "light_crude", Service.HEAVY_LIQUID: "heavy_crude"}
+KIND_WORDS = {"average": "average factor", "screening_range": "screening-range factor",
+              "population": "population factor", "leaker": "leaker factor"}
+KEY_WORDS = {"ogi": "OGI survey", "method21": "Method 21 survey", "compressor": "compressor components",
+             "non_compressor": "non-compressor components", "storage_station": "storage station components",
+             "storage_wellhead": "storage wellhead components", ">=10000": "screening at or above 10,000 ppmv",
+             "<10000": "screening below 10,000 ppmv"}
 
 
 @dataclass(frozen=True, slots=True)
@@ -46,6 +52,18 @@ class Factor:
     def describe(self) -> str:
         """Short text naming the row, e.g. 'w-3a leaker valve/gas/ogi = 14.84 scf whole gas/h/...'."""
         return f"{self.factor_set} {self.kind} {'/'.join(k for k in self.key if k)} = {self.value:g} {self.unit}"
+
+    def in_words(self, table: str) -> str:
+        """The row for a reader, e.g. '40 CFR 98 subpart W Table W-3A leaker factor: valve, gas service, OGI
+        survey, compressor components = 14.84 scf whole gas/h/leaking component' (``table`` names the table)."""
+        names = list(KINDS[self.kind])
+        parts = []
+        for name, k in zip(names, self.key, strict=False):
+            if not k:
+                continue
+            word = KEY_WORDS.get(k, k.replace("_", " "))
+            parts.append(f"{word} service" if name == "service" else f"{word} region" if name == "region" else word)
+        return f"{table} {KIND_WORDS[self.kind]}: {', '.join(parts)} = {self.value:g} {self.unit}"
 
 
 @dataclass(frozen=True, slots=True)
