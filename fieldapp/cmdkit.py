@@ -7,9 +7,10 @@ the imports point one way: cli -> commands -> cmdkit.
 from __future__ import annotations
 
 import argparse
+import contextlib
 import json
 import os
-from collections.abc import Sequence
+from collections.abc import Callable, Iterator, Sequence
 from datetime import date
 from pathlib import Path
 from typing import Any
@@ -163,3 +164,16 @@ def progress(total: int | None, what: str):
     interactive = hasattr(sys.stderr, "isatty") and sys.stderr.isatty()
     return tqdm(total=total, desc=what, unit=" " + what.split()[-1], file=sys.stderr, disable=not interactive,
                 leave=False, dynamic_ncols=True)
+
+
+@contextlib.contextmanager
+def steps(what: str) -> Iterator[Callable[[int, int], None]]:
+    """A progress bar (see ``progress``) driven by a ``tick(done, total)`` callback, for work whose size the
+    called function learns itself (bundle make and merge, export). Silent when stderr is not a terminal."""
+    with progress(None, what) as bar:
+        def tick(done: int, total: int) -> None:
+            bar.update(done - bar.n)
+            if bar.total != total:
+                bar.total = total
+                bar.refresh()
+        yield tick

@@ -19,6 +19,7 @@ import hashlib
 import io
 import json
 import zipfile
+from collections.abc import Callable
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
@@ -96,18 +97,25 @@ def _journal_member(entries: list[dict[str, Any]]) -> bytes:
     return "".join(json.dumps(e, sort_keys=True, ensure_ascii=False) + "\n" for e in entries).encode("utf-8")
 
 
-def make_device_bundle(store: Store, out: Path, since: int | None = None) -> BundleSummary:
-    """Write this device's journal entries after ``since`` (default: the office's acknowledgement)."""
+def make_device_bundle(store: Store, out: Path, since: int | None = None,
+                       progress: Callable[[int, int], None] | None = None) -> BundleSummary:
+    """Write this device's journal entries after ``since`` (default: the office's acknowledgement).
+
+    ``progress(done, total)`` is called as the media originals are read (total = their count + 1 for the file)."""
     start = acked_seq(store) if since is None else since
     entries = _entries(store, "device_id = ? AND seq > ?", (store.device_id, start))
     members = {"journal.jsonl": _journal_member(entries)}
     hashes = _media_hashes(entries)
-    for sha in hashes:
+    for done, sha in enumerate(hashes):
         members[f"media/{sha}"] = original_bytes(store, sha)
+        if progress:
+            progress(done + 1, len(hashes) + 1)
     seq_to = entries[-1]["seq"] if entries else start
     manifest = {"format": FORMAT, "version": VERSION, "kind": "device", "device_id": store.device_id,
                 "seq_from": start + 1, "seq_to": seq_to, "created_at": store.now_text(), "entries": len(entries)}
     write_bytes(out, _zip(store, members, manifest))
+    if progress:
+        progress(len(hashes) + 1, len(hashes) + 1)
     return BundleSummary(Path(out), "device", store.device_id, start + 1, seq_to, len(entries), len(hashes))
 
 

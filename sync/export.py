@@ -6,6 +6,7 @@ UTF-8, a header row, ISO 8601 dates, booleans as true/false, and the stable colu
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from dataclasses import asdict
 from datetime import date
 from pathlib import Path
@@ -122,18 +123,27 @@ def component_table(store: Store, site_id: str | None = None):
 
 
 def export_csv(store: Store, folder: Path, start: date | None = None, end: date | None = None,
-               site_id: str | None = None, bom: bool = False) -> list[Path]:
+               site_id: str | None = None, bom: bool = False,
+               progress: Callable[[int, int], None] | None = None) -> list[Path]:
     """Write the four CSV files and legend.csv into ``folder`` (each atomically); returns their paths.
 
     ``bom`` starts each file with the UTF-8 byte order mark (for spreadsheets that otherwise guess a
-    legacy code page and garble ° and §)."""
-    files = {
-        "leaks.csv": to_csv(leak_table(store, start, end, site_id), LEAK_COLUMNS),
-        "surveys.csv": to_csv(survey_table(store, start, end, site_id), SURVEY_COLUMNS),
-        "actions.csv": to_csv(action_table(store, start, end, site_id), ACTION_COLUMNS),
-        "components.csv": to_csv(component_table(store, site_id), COMPONENT_COLUMNS),
-        "legend.csv": to_csv([dict(zip(("column", "value", "meaning"), row, strict=True)) for row in LEGEND],
-                             ("column", "value", "meaning")),
+    legacy code page and garble ° and §). ``progress(done, total)`` is called as each file is built."""
+    legend = [dict(zip(("column", "value", "meaning"), row, strict=True)) for row in LEGEND]
+    build = {
+        "leaks.csv": lambda: to_csv(leak_table(store, start, end, site_id), LEAK_COLUMNS),
+        "surveys.csv": lambda: to_csv(survey_table(store, start, end, site_id), SURVEY_COLUMNS),
+        "actions.csv": lambda: to_csv(action_table(store, start, end, site_id), ACTION_COLUMNS),
+        "components.csv": lambda: to_csv(component_table(store, site_id), COMPONENT_COLUMNS),
+        "legend.csv": lambda: to_csv(legend, ("column", "value", "meaning")),
     }
+    files = {}
+    for name, make in build.items():
+        files[name] = make()
+        if progress:
+            progress(len(files), len(build) + 1)
     encoding = "utf-8-sig" if bom else "utf-8"
-    return [write_bytes(folder / name, text.encode(encoding)) for name, text in files.items()]
+    paths = [write_bytes(folder / name, text.encode(encoding)) for name, text in files.items()]
+    if progress:
+        progress(len(build) + 1, len(build) + 1)
+    return paths

@@ -14,6 +14,7 @@ from __future__ import annotations
 import json
 import sqlite3
 from collections import defaultdict
+from collections.abc import Callable
 from dataclasses import dataclass, field
 from operator import itemgetter
 from pathlib import Path
@@ -148,7 +149,8 @@ def merge(store: Store, path: Path | str) -> MergeResult:
     return merge_many(store, [path])[0]
 
 
-def merge_many(store: Store, paths: list[Path | str]) -> list[MergeResult]:
+def merge_many(store: Store, paths: list[Path | str],
+               progress: Callable[[int, int], None] | None = None) -> list[MergeResult]:
     """Verify every bundle completely, then apply them in the order given in one transaction.
 
     One refused bundle (damaged, hostile, out of order) changes nothing at all. A device bundle
@@ -165,9 +167,13 @@ def merge_many(store: Store, paths: list[Path | str]) -> list[MergeResult]:
     def known_journal(sha: str) -> bool:
         return store.conn.execute("SELECT 1 FROM meta WHERE key = ?", (JOURNAL_SEEN + sha,)).fetchone() is not None
 
+    total = 2 * len(paths) + 1  # check each, apply each, then store the media and commit
+    tick = progress or (lambda done, total: None)
+    bundles: list[CheckedBundle] = []
     with gc_paused():
-        bundles = [_checked(path, lambda device: contiguous_seq(store, device), signed, now_ms, known_journal)
-                   for path in paths]
+        for path in paths:
+            bundles.append(_checked(path, lambda device: contiguous_seq(store, device), signed, now_ms, known_journal))
+            tick(len(bundles), total)
     programs: dict[str, bytes] = {}
     media: dict[str, tuple[Path, str]] = {}
     written: dict[str, set[str]] = defaultdict(set)
@@ -178,7 +184,10 @@ def merge_many(store: Store, paths: list[Path | str]) -> list[MergeResult]:
         with gc_paused(), store.transaction():
             conn.execute("PRAGMA defer_foreign_keys = ON")
             try:
-                results = [_apply(store, bundle, programs, media, written) for bundle in bundles]
+                results = []
+                for bundle in bundles:
+                    results.append(_apply(store, bundle, programs, media, written))
+                    tick(len(bundles) + len(results), total)
             except (sqlite3.Error, KeyError, TypeError, ValueError) as exc:  # rolled back; still one clear line
                 if isinstance(exc, ValidationError):
                     raise
@@ -196,6 +205,7 @@ def merge_many(store: Store, paths: list[Path | str]) -> list[MergeResult]:
             lib = library(store)
             for sha, (source, name) in sorted(media.items()):  # stored (and synced) before the rows that name them
                 lib.put(read_member(source, name, sha), sha)
+        tick(total, total)
     finally:
         conn.execute(f"PRAGMA foreign_keys = {'ON' if enforcing else 'OFF'}")
     folder = catalog.user_programs_dir()

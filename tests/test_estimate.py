@@ -413,3 +413,26 @@ def test_underground_storage_uses_w4a_station_and_wellhead_rows():
     # 3.2 scf/h × 0.9 × 0.0192 kg/scf = 0.055296 kg/h
     assert m21.methane_kg_per_h == pytest.approx(0.055296)
     assert len([k for k in BOOK.factors if k[0] == "w-4a"]) == 24
+
+
+def test_estimate_of_a_stored_leak_by_tag_equals_by_id(demo_store, capsys):
+    import json
+
+    from fieldapp.cli import main
+
+    db = str(demo_store.path)
+    leak_id = demo_store.rows("SELECT l.id FROM leaks l JOIN components c ON c.id = l.component_id "
+                              "WHERE c.tag = 'TD-0033' AND l.measured_rate IS NOT NULL")[0]["id"]
+    assert main(["--db", db, "estimate", "--leak", "TD-0033", "--json"]) == 0
+    by_tag = json.loads(capsys.readouterr().out)
+    assert main(["--db", db, "estimate", "--leak", leak_id, "--json"]) == 0
+    assert json.loads(capsys.readouterr().out) == by_tag
+    # the demo's measured leak: 4.2 scf/h as entered (demo_site/scenario.toml, invented)
+    assert (by_tag["factor_key"], by_tag["factor_value"], by_tag["factor_unit"]) == ("measurement", 4.2, "scf/h")
+    # TD-0033 is a repeat leaker: its closed first leak is named by the local day it was found
+    first = demo_store.rows("SELECT l.detected_at FROM leaks l JOIN components c ON c.id = l.component_id "
+                            "WHERE c.tag = 'TD-0033' ORDER BY l.detected_at")[0]["detected_at"][:10]
+    assert main(["--db", db, "estimate", "--leak", f"TD-0033@{first}", "--json"]) == 0, capsys.readouterr().err
+    assert json.loads(capsys.readouterr().out)["basis"] != "measured"
+    assert main(["--db", db, "estimate", "--leak", "TD-9999"]) == 2
+    assert "leak: 'TD-9999' is not a leak id or the tag of a leak" in capsys.readouterr().err

@@ -340,3 +340,39 @@ def test_round_trip_record_store_bundle_office_csv(tmp_path_factory, leaks):
         assert (row["component_type"], row["service"], row["location_note"]) == (
             leak["type"], leak["service"], leak["note"].strip())
         assert row["hazard"] == ("true" if leak["hazard"] else "false")
+
+
+def test_bundle_make_merge_and_export_report_their_progress_to_the_caller(demo_store, tmp_path):
+    # the commands draw these ticks as a bar on a terminal (fieldapp.cmdkit.steps) and stay silent otherwise
+    from sync.export import export_csv
+
+    made, merged, exported = [], [], []
+    office = trusted(new_store(tmp_path, "office"), demo_store)
+    bundle = make_device_bundle(demo_store, tmp_path / "b.zip", progress=lambda d, t: made.append((d, t)))
+    assert made[-1] == (23, 23) and len(made) == 23  # 22 photos read, then the file written
+    merge_many(office, [bundle.path], progress=lambda d, t: merged.append((d, t)))
+    assert merged == [(1, 3), (2, 3), (3, 3)]  # checked, applied, media stored and committed
+    export_csv(office, tmp_path / "csv", progress=lambda d, t: exported.append((d, t)))
+    assert exported[-1] == (6, 6) and [d for d, _t in exported] == [1, 2, 3, 4, 5, 6]
+
+
+def test_bundle_and_export_commands_draw_a_bar_only_on_a_terminal(demo_store, tmp_path, monkeypatch, capsys):
+    import io
+    import sys
+
+    from fieldapp.cli import main
+
+    db = str(demo_store.path)
+    assert main(["--db", db, "bundle", "make", "--out", str(tmp_path / "quiet.zip")]) == 0
+    assert capsys.readouterr().err == ""
+
+    class Tty(io.StringIO):
+        def isatty(self):
+            return True
+
+    fake = Tty()
+    monkeypatch.setattr(sys, "stderr", fake)
+    assert main(["--db", db, "bundle", "make", "--out", str(tmp_path / "b.zip")]) == 0
+    assert main(["--db", db, "export", "csv", "--out", str(tmp_path / "csv")]) == 0
+    assert "writing bundle:" in fake.getvalue() and "/23" in fake.getvalue()
+    assert "writing files:" in fake.getvalue() and "/6" in fake.getvalue()

@@ -13,6 +13,7 @@ from __future__ import annotations
 import itertools
 import json
 import tempfile
+import time
 from datetime import timedelta
 from pathlib import Path
 
@@ -80,11 +81,18 @@ def test_same_tag_on_two_devices_is_a_visible_collision_not_a_crash(pair, tmp_pa
     assert len(flagged) == 1 and "2 components" in flagged[0]
     assert any("TD-9001" in c for c in period_report(office, DEMO_NOW.date(), DEMO_NOW.date()).cautions)
     office.close()
+    # the shared tag names neither: the refusal lists both, each with the device that made it
+    assert main(["--db", db, "resolve", "join", "TD-9001", on_tablet.id]) == 2
+    refused = capsys.readouterr().err
+    assert "keep: 'TD-9001' matches 2 components" in refused and at_office.id in refused and on_tablet.id in refused
+    assert refused.count("made on") == 2
     # the office joins the two: the leak follows the kept component, the join travels to the tablet
     assert main(["--db", db, "resolve", "join", at_office.id, on_tablet.id]) == 0
     office = Store(db)
     assert office.get("leaks", leak.id)["component_id"] == at_office.id
     assert tag_collisions(office) == []
+    # the command stamped the join with the real clock: the tablet receives it no earlier than that
+    tablet.wall.t = max(tablet.wall.t, time.time())
     merge(tablet, make_office_bundle(office, tmp_path / "o2.zip", tablet.device_id).path)
     assert tag_collisions(tablet) == []
     assert [e["op"] for e in history(office, on_tablet.id)][-1] == "delete"

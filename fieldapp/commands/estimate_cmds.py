@@ -27,7 +27,8 @@ def register(sub: argparse._SubParsersAction) -> None:
     p.add_argument("--service", help="service (required unless --leak)")
     p.add_argument("--segment", help=f"industry segment, 40 CFR 98.230(a): {segments} (default: the site's)")
     p.add_argument("--site", help="site id or name: its segment and gas composition are used")
-    p.add_argument("--leak", help="stored leak id: estimated as stored, with its site's segment and composition")
+    p.add_argument("--leak", help="stored leak (id, TAG or TAG@YYYY-MM-DD): estimated as stored, with its site's "
+                   "segment and composition")
     p.add_argument("--compressor-component", action="store_true",
                    help="the component belongs to a compressor (subpart W Table W-3A compressor rows)")
     p.add_argument("--wellhead-component", action="store_true",
@@ -93,7 +94,10 @@ def _stored_input(args: argparse.Namespace, book):
 
     store = open_store(args)
     if args.leak:
-        rows = leak_rows(store, leak_id=args.leak)
+        from fieldapp.store.names import resolve_leak
+
+        found = resolve_leak(store, args.leak, field="leak", closed_too=True)
+        rows = leak_rows(store, leak_id=found["id"])
         if not rows:
             raise ValidationError([FieldProblem("leak", f"no leak with id {args.leak}")])
         return leak_input(rows[0], book)
@@ -194,7 +198,8 @@ def cmd_estimate(args: argparse.Namespace) -> int:
            "co2e_20yr_kg_per_h": horizons.get(20), "gwp_set": gwp,
            "whole_gas_scf_per_h": result.whole_gas_scf_per_h,
            "basis": result.basis, "segment": result.segment, "table_reason": result.table_reason,
-           "factor_set": result.factor_set, "factor_row": result.factor_row,
+           "factor_set": result.factor_set, "factor_row": result.factor_row, "factor_key": result.factor_key,
+           "factor_value": result.factor_value, "factor_unit": result.factor_unit, "factor_terms": result.factor_terms,
            "source": result.source, "status": result.status, "verified": result.verified,
            "composition": result.composition, "assumptions": [*result.assumptions, *_gwp_notes(book, gwp)],
            "label": "engineering estimate"}
@@ -203,7 +208,7 @@ def cmd_estimate(args: argparse.Namespace) -> int:
     else:
         print(f"methane {result.methane_kg_per_h:.5g} kg/h; CO2e {horizons[100]:.4g} kg/h (100-yr) / "
               f"{horizons.get(20, 0):.4g} kg/h (20-yr), {gwp.upper()}")
-        print(f"basis: {result.basis}; {result.factor_row}\nsource: {result.source} ({result.status})")
+        print(f"basis: {result.basis.replace('_', ' ')}; {result.factor_row}\nsource: {result.source} ({result.status})")
         print(f"segment: {result.segment or 'not given'}; why this table: {result.table_reason}")
         for note in out["assumptions"]:
             print(f"  assumption: {note}")
@@ -220,7 +225,8 @@ def _gwp_notes(book, gwp: str) -> list[str]:
 def _no_factor(args: argparse.Namespace, leak, reason: str, gwp: str) -> int:
     out = {"methane_kg_per_h": None, "co2e_kg_per_h": None, "co2e_20yr_kg_per_h": None, "gwp_set": gwp,
            "whole_gas_scf_per_h": None, "basis": "no_factor", "segment": leak.segment.value,
-           "table_reason": reason, "factor_set": "", "factor_row": "", "source": "", "status": "",
+           "table_reason": reason, "factor_set": "", "factor_row": "", "factor_key": "",
+           "factor_value": None, "factor_unit": "", "factor_terms": "", "source": "", "status": "",
            "verified": False, "composition": {"methane_mole_fraction": leak.methane_mole_fraction,
                                               "methane_weight_fraction": leak.methane_weight_fraction},
            "assumptions": [n for n in (leak.composition_note, leak.segment_note) if n],

@@ -5,7 +5,7 @@ from __future__ import annotations
 import argparse
 from pathlib import Path
 
-from fieldapp.cmdkit import open_store, parse_day, required_text
+from fieldapp.cmdkit import open_store, parse_day, required_text, steps
 from fieldapp.core.fields import FieldProblem, ValidationError
 from fieldapp.paths import output_file, output_folder
 
@@ -58,7 +58,9 @@ def cmd_csv(args: argparse.Namespace) -> int:
     required_text(args.site, "site")
     output_folder(args.out, "out")
     store = open_store(args)
-    for path in export_csv(store, args.out, start, end, _site(store, args.site), bom=args.bom):
+    with steps("writing files") as tick:
+        paths = export_csv(store, args.out, start, end, _site(store, args.site), bom=args.bom, progress=tick)
+    for path in paths:
         print(path)
     return 0
 

@@ -5,7 +5,7 @@ from __future__ import annotations
 import argparse
 from pathlib import Path
 
-from fieldapp.cmdkit import emit_json, emit_table, open_store, parse_whole, required_text
+from fieldapp.cmdkit import emit_json, emit_table, open_store, parse_whole, required_text, say_actor, steps
 from fieldapp.paths import input_file, output_file
 
 
@@ -29,12 +29,14 @@ def register(sub: argparse._SubParsersAction) -> None:
     r = sub.add_parser("resolve", help="resolve a tag collision between two devices")
     how = r.add_subparsers(dest="how", required=True, metavar="HOW")
     j = how.add_parser("join", help="one component tagged twice: move DROP's leaks to KEEP, tombstone DROP")
-    j.add_argument("keep")
-    j.add_argument("drop")
+    j.add_argument("keep", help="component id, or its tag when only one live component has it")
+    j.add_argument("drop", help="component id, or its tag when only one live component has it")
+    j.add_argument("--site", help="site id or name, to narrow a tag to one site")
     j.set_defaults(handler=cmd_join)
     t = how.add_parser("retag", help="two different components: give one a new tag")
-    t.add_argument("component")
+    t.add_argument("component", help="component id, or its tag when only one live component has it")
     t.add_argument("tag")
+    t.add_argument("--site", help="site id or name, to narrow a tag to one site")
     t.set_defaults(handler=cmd_retag)
     e = sub.add_parser("enrol", help="trust a device's public key (office: a tablet; tablet: its office)")
     e.add_argument("device_id")
@@ -61,7 +63,8 @@ def cmd_make(args: argparse.Namespace) -> int:
         s = make_office_bundle(store, args.out, args.for_device)
         print(f"office bundle for device {args.for_device}: {s.entries} entries -> {s.path}")
         return 0
-    s = make_device_bundle(store, args.out, since)
+    with steps("writing bundle") as tick:
+        s = make_device_bundle(store, args.out, since, tick)
     print(f"bundle of device {s.device_id}: entries {s.seq_from}..{s.seq_to} ({s.entries}), {s.media} media "
           f"-> {s.path}")
     return 0
@@ -73,7 +76,9 @@ def cmd_merge(args: argparse.Namespace) -> int:
     for path in args.files:
         input_file(path, "files")
     store = open_store(args)
-    for path, r in zip(args.files, merge_many(store, args.files), strict=True):
+    with steps("merging bundles") as tick:
+        results = merge_many(store, args.files, tick)
+    for path, r in zip(args.files, results, strict=True):
         print(f"{path.name}: {r.kind} bundle from {r.device_id[:8]}: {r.new_entries} new entries, {r.rows} records "
               f"rebuilt, {r.media} media files, {r.conflicts} conflicts")
         for note in r.notes:
@@ -109,10 +114,21 @@ def cmd_device(args: argparse.Namespace) -> int:
     return 0
 
 
+def _component(store, key: str, site: str | None, field: str) -> str:
+    from fieldapp.store.names import resolve_component
+    from fieldapp.store.reads import resolve_site
+
+    site_id = resolve_site(store, required_text(site, "site"))["id"] if site is not None else None
+    return resolve_component(store, required_text(key, field), site_id, field)["id"]
+
+
 def cmd_join(args: argparse.Namespace) -> int:
     from fieldapp.store.resolve import join
 
-    done = join(open_store(args), args.keep, args.drop, args.actor)
+    store = open_store(args)
+    say_actor(args)
+    keep, drop = _component(store, args.keep, args.site, "keep"), _component(store, args.drop, args.site, "drop")
+    done = join(store, keep, drop, args.actor)
     print(f"joined {done['dropped']} into {done['kept']} (tag {done['tag']}), {done['leaks_moved']} leak(s) moved")
     return 0
 
@@ -120,7 +136,9 @@ def cmd_join(args: argparse.Namespace) -> int:
 def cmd_retag(args: argparse.Namespace) -> int:
     from fieldapp.store.resolve import retag
 
-    row = retag(open_store(args), args.component, args.tag, args.actor)
+    store = open_store(args)
+    say_actor(args)
+    row = retag(store, _component(store, args.component, args.site, "component"), args.tag, args.actor)
     print(f"component {row['id']} is now tag {row['tag']}")
     return 0
 

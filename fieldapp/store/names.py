@@ -6,6 +6,9 @@ refused with a ``ValidationError`` naming the field and listing the candidates, 
 - survey: ``SITE@YYYY-MM-DD`` (the survey started that local day at the site) or an id;
 - leak: ``TAG`` (the one open leak on that tag), ``TAG@YYYY-MM-DD`` (the leak found that local day),
   or an id; ``site`` narrows a tag to one site.
+- component: ``TAG`` (the one live component with that tag) or an id; ``site`` narrows a tag to one site.
+  Two devices that created the same tag leave two components on it: the refusal lists both with the
+  device that created each, so the id to keep or retag can be chosen.
 """
 
 from __future__ import annotations
@@ -103,4 +106,37 @@ def resolve_leak(store: Store, key: str, site_id: str | None = None, field: str 
         raise ValidationError([FieldProblem(field, f"{key!r}: no leak {what} on that tag; its leaks: "
                                             f"{_listed([_leak_label(r) for r in candidates])}")])
     raise ValidationError([FieldProblem(field, f"{key!r} is not a leak id or the tag of a leak"
+                                        + (" at that site" if site_id else ""))])
+
+
+COMPONENT_ROWS = (
+    "SELECT c.id, c.tag, c.type, c.service, c.area, s.id AS site_id, s.name AS site_name, "
+    "(SELECT COALESCE(d.name, j.device_id) FROM journal j LEFT JOIN devices d ON d.device_id = j.device_id "
+    " WHERE j.row_id = c.id AND j.tbl = 'components' AND j.op = 'insert' LIMIT 1) AS made_on "
+    "FROM components c JOIN sites s ON s.id = c.site_id WHERE c.deleted = 0 AND s.deleted = 0"
+)
+
+
+def _component_label(row: dict[str, Any]) -> str:
+    made = f", made on {row['made_on']}" if row["made_on"] else ""
+    area = f", area {row['area']}" if row["area"] else ""
+    return f"{row['id']} ({row['tag']} at {row['site_name']}: {row['type']}, {row['service']}{area}{made})"
+
+
+def resolve_component(store: Store, key: str, site_id: str | None = None, field: str = "component") -> dict[str, Any]:
+    """A live component by id or by ``TAG`` (the one live component with it); refused listing candidates."""
+    rows = store.rows(COMPONENT_ROWS + " AND c.id = ?", (key,))
+    if rows:
+        return rows[0]
+    where, params = " AND c.tag = ?", [key]
+    if site_id:
+        where, params = where + " AND s.id = ?", [*params, site_id]
+    found = store.rows(COMPONENT_ROWS + where + " ORDER BY s.name, c.id", params)
+    if len(found) == 1:
+        return found[0]
+    if found:
+        raise ValidationError([FieldProblem(field, f"{key!r} matches {len(found)} components; give the id of one"
+                                            + ("" if site_id else " or name the site (--site)") + ": "
+                                            + _listed([_component_label(r) for r in found]))])
+    raise ValidationError([FieldProblem(field, f"{key!r} is not a component id or the tag of a live component"
                                         + (" at that site" if site_id else ""))])
