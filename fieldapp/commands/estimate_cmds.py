@@ -208,7 +208,8 @@ def cmd_estimate(args: argparse.Namespace) -> int:
     else:
         print(f"methane {result.methane_kg_per_h:.5g} kg/h; CO2e {horizons[100]:.4g} kg/h (100-yr) / "
               f"{horizons.get(20, 0):.4g} kg/h (20-yr), {gwp.upper()}")
-        print(f"basis: {result.basis.replace('_', ' ')}; {result.factor_row}\nsource: {result.source} ({result.status})")
+        print(f"basis: {result.basis.replace('_', ' ')}; {result.factor_row}")
+        print(f"source: {result.source} ({result.status})")
         print(f"segment: {result.segment or 'not given'}; why this table: {result.table_reason}")
         for note in out["assumptions"]:
             print(f"  assumption: {note}")
