@@ -374,5 +374,9 @@ def test_bundle_and_export_commands_draw_a_bar_only_on_a_terminal(demo_store, tm
     monkeypatch.setattr(sys, "stderr", fake)
     assert main(["--db", db, "bundle", "make", "--out", str(tmp_path / "b.zip")]) == 0
     assert main(["--db", db, "export", "csv", "--out", str(tmp_path / "csv")]) == 0
+    (tmp_path / "new.csv").write_text("tag,type,service\nZZ-1,valve,gas\n")
+    assert main(["--db", db, "import", "components", str(tmp_path / "new.csv"), "--site",
+                 "Tamsin Draw Compressor Station"]) == 0
+    assert "importing stages:" in fake.getvalue() and "/3" in fake.getvalue()
     assert "writing bundle:" in fake.getvalue() and "/23" in fake.getvalue()
     assert "writing files:" in fake.getvalue() and "/6" in fake.getvalue()

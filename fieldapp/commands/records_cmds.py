@@ -218,7 +218,10 @@ def cmd_import_components(args: argparse.Namespace) -> int:
     input_file(args.file, "file")
     store = open_store(args)
     site = resolve_site(store, args.site)
-    count = import_components(store, args.file, site["id"], args.actor)
+    from fieldapp.cmdkit import steps
+
+    with steps("importing stages") as tick:
+        count = import_components(store, args.file, site["id"], args.actor, tick)
     print(f"imported {count} components into {site['name']}")
     return 0
 

@@ -28,6 +28,7 @@ from __future__ import annotations
 import csv
 import io
 from collections import Counter
+from collections.abc import Callable
 from itertools import repeat
 from pathlib import Path
 
@@ -209,17 +210,25 @@ def parse_components(text: str, site_id: str, existing_tags: set[str]) -> dict[s
     return _row_by_row(header, body, ids, site_id, existing_tags)
 
 
-def import_components(store: Store, path: Path | str, site_id: str, actor: str = "") -> int:
-    """Import a components CSV into a site in one transaction and one journal entry; returns the count."""
+def import_components(store: Store, path: Path | str, site_id: str, actor: str = "",
+                      progress: Callable[[int, int], None] | None = None) -> int:
+    """Import a components CSV into a site in one transaction and one journal entry; returns the count.
+
+    ``progress(done, 3)`` is called after reading, checking and writing (the rows are checked as a whole)."""
     from fieldapp.paths import input_file
 
+    tick = progress or (lambda done, total: None)
     try:
         text = input_file(path, "file").read_text(encoding="utf-8-sig")
     except UnicodeDecodeError as exc:
         raise ValidationError([FieldProblem("file", f"{path}: is not UTF-8 text ({exc.reason})")]) from None
+    tick(1, 3)
     with gc_paused(), store.transaction():
         store.get("sites", site_id)
         existing = {r[0] for r in store.conn.execute(
             "SELECT tag FROM components WHERE site_id = ? AND deleted = 0", (site_id,))}
         columns = parse_components(text, site_id, existing)
-        return store.insert_batch("components", columns, {"site_id": site_id, "deleted": 0}, actor)
+        tick(2, 3)
+        count = store.insert_batch("components", columns, {"site_id": site_id, "deleted": 0}, actor)
+    tick(3, 3)
+    return count
