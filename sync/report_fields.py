@@ -12,7 +12,7 @@ from collections.abc import Iterable
 from dataclasses import dataclass, field
 from typing import Any
 
-from fieldapp.core.program import REPORT_LEAK_FIELDS, REPORT_SURVEY_FIELDS, CitedValue
+from fieldapp.core.program import CitedValue
 
 NOT_RECORDED = "not recorded"
 METHOD_WORDS = {"ogi": "OGI", "method21": "Method 21", "avo": "AVO"}
