@@ -15,9 +15,11 @@ from sync.pdf_common import RULE, SHADE, STYLES
 
 # a table wider than this many columns is set in smaller type so its words fit their columns
 NARROW_AT = 10
-NARROW_CELL = ParagraphStyle("narrow_cell", parent=STYLES["cell"], fontSize=7, leading=8.6)
+# embeddedHyphenation: a long word breaks at its own hyphen ("not operating-depressurized"), not mid-word
+CELL = ParagraphStyle("report_cell", parent=STYLES["cell"], embeddedHyphenation=1)
+NARROW_CELL = ParagraphStyle("narrow_cell", parent=CELL, fontSize=7, leading=8.6)
 NARROW_HEAD = ParagraphStyle("narrow_head", parent=NARROW_CELL, fontName="Helvetica-Bold")
-HEAD = ParagraphStyle("head_cell", parent=STYLES["cell"], fontName="Helvetica-Bold")
+HEAD = ParagraphStyle("head_cell", parent=CELL, fontName="Helvetica-Bold")
 
 
 def _cell(text: str, style: ParagraphStyle) -> Paragraph:
@@ -26,19 +28,30 @@ def _cell(text: str, style: ParagraphStyle) -> Paragraph:
 
 
 def column_table(columns: list[str], weights: list[float], rows: list[list[str]], width: float,
-                 empty: str = "none") -> Table:
-    """A table with a header row repeated on every page, column widths in proportion to ``weights``."""
+                 empty: str = "none", notes: list[str] | None = None) -> Table:
+    """A table with a header row repeated on every page, column widths in proportion to ``weights``.
+
+    ``notes`` (the citation, fields not recorded) go in a last row across all columns that never parts from
+    the last body row, so a table split across pages keeps its citation under it.
+    """
     narrow = len(columns) >= NARROW_AT
-    body_style, head_style = (NARROW_CELL, NARROW_HEAD) if narrow else (STYLES["cell"], HEAD)
+    body_style, head_style = (NARROW_CELL, NARROW_HEAD) if narrow else (CELL, HEAD)
     total = sum(weights)
     body = rows or [[empty] + [""] * (len(columns) - 1)]
     data = [[_cell(c, head_style) for c in columns]] + [[_cell(c, body_style) for c in row] for row in body]
+    last = len(data) - 1
+    if notes:
+        data.append([[_cell(n, STYLES["small"]) for n in notes]] + [""] * (len(columns) - 1))
     table = Table(data, colWidths=[width * w / total for w in weights], repeatRows=1)
-    table.setStyle(TableStyle([("GRID", (0, 0), (-1, -1), 0.3, RULE), ("VALIGN", (0, 0), (-1, -1), "TOP"),
-                               ("TOPPADDING", (0, 0), (-1, -1), 2), ("BOTTOMPADDING", (0, 0), (-1, -1), 2),
-                               ("LEFTPADDING", (0, 0), (-1, -1), 3 if narrow else 6),
-                               ("RIGHTPADDING", (0, 0), (-1, -1), 3 if narrow else 6),
-                               ("BACKGROUND", (0, 0), (-1, 0), SHADE)]))
+    pad = 3 if narrow else 6
+    style = [("GRID", (0, 0), (-1, last), 0.3, RULE), ("VALIGN", (0, 0), (-1, -1), "TOP"),
+             ("TOPPADDING", (0, 0), (-1, -1), 2), ("BOTTOMPADDING", (0, 0), (-1, -1), 2),
+             ("LEFTPADDING", (0, 0), (-1, last), pad), ("RIGHTPADDING", (0, 0), (-1, last), pad),
+             ("BACKGROUND", (0, 0), (-1, 0), SHADE)]
+    if notes:
+        style += [("SPAN", (0, last + 1), (-1, last + 1)), ("NOSPLIT", (0, last), (-1, last + 1)),
+                  ("LEFTPADDING", (0, last + 1), (-1, last + 1), 0), ("TOPPADDING", (0, last + 1), (-1, last + 1), 3)]
+    table.setStyle(TableStyle(style))
     return table
 
 

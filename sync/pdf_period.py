@@ -7,7 +7,7 @@ from pathlib import Path
 
 from reportlab.lib.pagesizes import landscape
 from reportlab.lib.units import mm
-from reportlab.platypus import CondPageBreak, KeepTogether, SimpleDocTemplate, Spacer
+from reportlab.platypus import CondPageBreak, SimpleDocTemplate, Spacer
 
 from fieldapp.atomic import write_bytes
 from fieldapp.store.base import Store
@@ -62,14 +62,13 @@ def render(report: PeriodReport) -> bytes:
 
 
 def _table(title: str, table: ReportTable | None, empty: str, what: str) -> list:
-    """A heading, the table the program lists (split across pages, header repeated), its citation."""
+    """A heading, the table the program lists (split across pages, header repeated), its citation under it."""
     if table is None:
         return []
-    out: list = [HeadWithRows([para(title, "h3")], column_table(table.columns, table.weights, table.rows, WIDTH,
-                                                                   empty))]
-    notes = [para(f"{what} the program lists ({table.status}): {table.citation or 'no citation given'}", "small")]
-    notes += [para(f"Not recorded: {missing}.", "small") for missing in table.not_recorded]
-    return out + [KeepTogether(notes)]
+    notes = [f"{what} the program lists ({table.status}): {table.citation or 'no citation given'}"]
+    notes += [f"Not recorded: {missing}." for missing in table.not_recorded]
+    grid_ = column_table(table.columns, table.weights, table.rows, WIDTH, empty, notes)
+    return [HeadWithRows([para(title, "h3")], grid_)]
 
 
 def _site_section(s: SiteSummary) -> list:

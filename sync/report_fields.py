@@ -135,12 +135,13 @@ def _resurvey(line) -> str:
     if not done:
         return "-"
     return "; ".join(f"{e['on']} {e['event'].removeprefix('resurvey ')}" for e in done) + (
-        f" ({line.resurvey_method or 'method not recorded'}, {line.resurvey_instrument or 'instrument not recorded'})")
+        f" ({METHOD_WORDS.get(line.resurvey_method, line.resurvey_method) or 'method not recorded'}, "
+        f"{line.resurvey_instrument or 'instrument not recorded'})")
 
 
 def _as_required(line) -> str:
     if line.state == "void":
-        return "-"
+        return "void: not counted"
     if line.late or line.overdue:
         late = [f"{k.replace('_', ' ')} late" for k in line.late.split(";") if k]
         overdue = [f"{k.replace('_', ' ')} overdue" for k in line.overdue.split(";") if k]

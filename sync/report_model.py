@@ -409,7 +409,8 @@ def _record_table(program, site: dict[str, Any], pairs: list[tuple[dict[str, str
     if site["kind"] == "compressor_station" and modes and modes.value and "compressor_modes" not in required:
         required += ("compressor_modes",)
     labels = ["Date of the survey", *(RECORD_LABELS[n] for n in required)]
-    weights = [0.8] + [1.6 if n in ("deviations", "qualification") else 1.0 for n in required]
+    wide = {"deviations": 1.6, "qualification": 1.6, "compressor_modes": 1.5}
+    weights = [1.05] + [wide.get(n, 1.0) for n in required]
     rows = [[record[label] for label in labels] for record, _row in pairs]
     cited = program.survey_records
     return ReportTable(("survey_date", *required), labels, weights, rows, cited.citation if cited else "",

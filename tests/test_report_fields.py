@@ -209,3 +209,10 @@ def test_sites_under_different_programs_get_their_own_columns_and_not_recorded(s
 
     rows = csv_leaks(store, as_of=TODAY)
     assert len(rows) == 2 and all(set(row) == set(CSV_COLUMNS) for row in rows)
+
+
+def test_the_template_documents_every_report_field():
+    """The company template's comment names every field a program may list (DEVELOPERS.md: it documents every key)."""
+    comment = " ".join(line for line in TEMPLATE.read_text(encoding="utf-8").splitlines() if line.startswith("#"))
+    for name in REPORT_SURVEY_FIELDS + REPORT_LEAK_FIELDS:
+        assert re.search(rf"\b{name}\b", comment), name
