@@ -108,7 +108,8 @@ def parse_whole(text: str | None, field: str, low: int = 0, high: int = 2**63 - 
     if text is None:
         return None
     raw = str(text).strip()
-    if not raw.lstrip("-").isdigit() or len(raw) > 20 or not low <= int(raw) <= high:
+    digits = raw.removeprefix("-")
+    if not (digits.isascii() and digits.isdigit()) or len(raw) > 20 or not low <= int(raw) <= high:
         raise ValidationError([FieldProblem(field, f"{raw[:40]!r} is not allowed; write a whole number from "
                                             f"{low} to {high}")])
     return int(raw)

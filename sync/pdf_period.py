@@ -12,8 +12,10 @@ from reportlab.platypus import CondPageBreak, SimpleDocTemplate, Spacer
 from fieldapp.atomic import write_bytes
 from fieldapp.store.base import Store
 from sync.pdf_common import MARGIN, PAGE, bar_chart, grid, numbered_canvas, para
+from sync.pdf_flow import HeadWithRows, column_table
 from sync.pdf_survey import certification_block
-from sync.report_model import PeriodReport, SiteSummary, period_report, words
+from sync.report_fields import ReportTable
+from sync.report_model import PeriodReport, SiteSummary, period_report
 
 LANDSCAPE = landscape(PAGE)
 WIDTH = LANDSCAPE[0] - 2 * MARGIN
@@ -59,52 +61,26 @@ def render(report: PeriodReport) -> bytes:
     return buffer.getvalue()
 
 
-SURVEY_HEAD = ("Date of the survey", "Begin time", "End time", "Operator", "Operator training and experience",
-               "Instrument", "Daily verification", "Ambient temperature", "Sky conditions", "Maximum wind speed",
-               "Deviations from the monitoring plan", "Leaks found")
-SURVEY_WIDTHS = (0.08, 0.095, 0.095, 0.075, 0.105, 0.105, 0.075, 0.065, 0.07, 0.065, 0.11, 0.05)
-# column heads short enough not to break inside a word; the survey report's record uses the full labels
-SHORT_HEAD = {"Ambient temperature": "Ambient temp.", "Sky conditions": "Sky",
-              "Maximum wind speed": "Max. wind", "Deviations from the monitoring plan": "Deviations from the plan"}
-
-
-def _resurvey(line) -> str:
-    done = [e for e in line.timeline if e["event"].startswith("resurvey")]
-    if not done:
-        return "-"
-    return "; ".join(f"{e['on']} {e['event'].removeprefix('resurvey ')}" for e in done) + (
-        f" ({line.resurvey_method or 'method not recorded'}, {line.resurvey_instrument or 'instrument not recorded'})")
+def _table(title: str, table: ReportTable | None, empty: str, what: str) -> list:
+    """A heading, the table the program lists (split across pages, header repeated), its citation under it."""
+    if table is None:
+        return []
+    notes = [f"{what} the program lists ({table.status}): {table.citation or 'no citation given'}"]
+    notes += [f"Not recorded: {missing}." for missing in table.not_recorded]
+    grid_ = column_table(table.columns, table.weights, table.rows, WIDTH, empty, notes)
+    return [HeadWithRows([para(title, "h3")], grid_)]
 
 
 def _site_section(s: SiteSummary) -> list:
-    """One site: identifiers, each survey with its record fields, each leak, counts, components not monitored."""
-    w = WIDTH
+    """One site: identifiers, the surveys and leaks in the columns its program lists, counts, not monitored."""
     out: list = [CondPageBreak(60 * mm), para(s.site, "h2"),
                  para(f"Facility / permit id {s.facility_id or 'not recorded'}; latitude, longitude {s.coordinates}; "
-                      f"program {s.program_id}.", "body"), para("Surveys in the period", "h3")]
-    head = [[SHORT_HEAD.get(h, h) for h in SURVEY_HEAD]]
-    body = [[r.get(k, "-") for k in SURVEY_HEAD] for r in s.surveys] or [["none in the period"] + [""] * 11]
-    out.append(grid(head + body, [w * x for x in SURVEY_WIDTHS]))
-    out.append(para(f"Survey record fields the program lists: {s.record_citation or 'none listed'}", "small"))
+                      f"program {s.program_id}.", "body")]
+    out += _table("Surveys in the period", s.survey_table, "none in the period", "Report fields per survey")
+    out += _table("Survey records", s.record_table, "none in the period", "Survey record fields")
     out.append(para("Survey windows missed: " + ("; ".join(s.windows_missed) or "none"),
                     "hazard" if s.windows_missed else "body"))
-    out.append(para("Leaks found in the period", "h3"))
-    rows = [["Tag", "Component", "Detected", "Method", "First attempt", "Repair", "Resurvey (result, method)",
-             "Delay of repair (reason, limit, parts)", "State"]]
-    for x in s.leaks:
-        delay = "-" if not x.delay_on else (f"{x.delay_on} {x.delay_reason} ({x.delay_kind}); limit "
-                                            f"{x.delay_limit or 'not set yet'}" + (
-            f"; parts ordered {x.parts_ordered_on or '-'}, received {x.parts_received_on or 'not yet'}"
-            if x.delay_kind == "parts" else ""))
-        flags = "".join(f", {f}" for f, on in (("difficult to monitor", x.difficult_to_monitor),
-                                                ("unsafe to monitor", x.unsafe_to_monitor)) if on)
-        rows.append([x.tag, f"{words(x.component_type)}{flags}", x.detected_on, x.detection_method or "-",
-                     f"{x.first_attempt_on} {x.first_attempt_by}".strip() or "-",
-                     f"{x.repaired_on} {x.repaired_by}".strip() or "-", _resurvey(x), delay,
-                     words(x.state) + (" (OVERDUE: " + words(x.overdue).replace(";", ", ") + ")" if x.overdue else "")])
-    if len(rows) == 1:
-        rows.append(["none"] + [""] * 8)
-    out.append(grid(rows, [w * x for x in (0.08, 0.11, 0.08, 0.06, 0.12, 0.12, 0.155, 0.175, 0.1)]))
+    out += _table("Leaks found in the period", s.leak_table, "none", "Report fields per leak")
     by_type = ", ".join(f"{t} {n}" for t, n in s.leaks_by_type.items()) or "none"
     out.append(para(f"Components with leaks, by type: {by_type}. Repairs confirmed by a resurvey: {s.confirmed}; "
                     f"repaired, resurvey not yet done: {s.not_confirmed}; on delay of repair: {s.delayed}; "

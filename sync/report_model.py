@@ -22,6 +22,7 @@ from fieldapp.store.base import Store
 from fieldapp.store.due import due_list
 from fieldapp.store.estimates import emission_report, estimates, leak_rows
 from fieldapp.store.reads import REPEAT_COUNT, REPEAT_MIN, facts_for
+from sync.report_fields import DEFAULT_LEAK_FIELDS, DEFAULT_SURVEY_FIELDS, ReportTable, leak_table, survey_table
 
 GWP_SET = "ar5"
 CAUTIONS = (
@@ -396,31 +397,49 @@ class SiteSummary:
     facility_id: str = ""
     coordinates: str = ""
     record_citation: str = ""
+    survey_table: ReportTable | None = None
+    record_table: ReportTable | None = None
+    leak_table: ReportTable | None = None
 
 
-# the survey columns of the period summary: 60.5420a(c)(15)(vii)(A)-(G) / 60.5420b(b)(9)(ii)(A)-(C)
-PERIOD_SURVEY_FIELDS = ("started_at", "ended_at", "operator", "qualification", "camera_model", "camera_check",
-                        "ambient_temp_c", "sky", "wind_max_m_s", "deviations")
+def _record_table(program, site: dict[str, Any], pairs: list[tuple[dict[str, str], dict[str, Any]]]) -> ReportTable:
+    """The survey records the program lists (``survey_records.required``), the date first; at a compressor
+    station also the compressor modes when the program asks for them (``leak_records.compressor_modes_at_stations``)."""
+    required = tuple(program.survey_records.value) if program.survey_records else ()
+    modes = (program.leak_records or {}).get("compressor_modes_at_stations")
+    if site["kind"] == "compressor_station" and modes and modes.value and "compressor_modes" not in required:
+        required += ("compressor_modes",)
+    labels = ["Date of the survey", *(RECORD_LABELS[n] for n in required)]
+    wide = {"deviations": 1.6, "qualification": 1.6, "compressor_modes": 1.5}
+    weights = [1.05] + [wide.get(n, 1.0) for n in required]
+    rows = [[record[label] for label in labels] for record, _row in pairs]
+    cited = program.survey_records
+    return ReportTable(("survey_date", *required), labels, weights, rows, cited.citation if cited else "",
+                       cited.status if cited else "")
 
 
-def _record_citation(program_id: str) -> str:
-    program = catalog.program(program_id)
-    return program.survey_records.citation if program.survey_records else ""
-
-
-def _survey_rows(store: Store, site: dict[str, Any], start: date, end: date) -> list[dict[str, str]]:
-    """Each survey of the site in the period with its record fields, in words."""
+def _survey_pairs(store: Store, site: dict[str, Any], start: date, end: date) -> list[tuple[dict[str, str], dict]]:
+    """Each survey of the site in the period: (its record fields in words by label, the stored row)."""
     rows = store.rows("SELECT v.*, (SELECT COUNT(*) FROM leaks l WHERE l.survey_id = v.id AND l.deleted = 0) AS "
                       "leak_count FROM surveys v WHERE v.site_id = ? AND v.deleted = 0 AND substr(v.started_at, 1, 10) "
                       "BETWEEN ? AND ? ORDER BY v.started_at", (site["id"], start.isoformat(), end.isoformat()))
     out = []
     for r in rows:
-        record = {label: value for label, value, _req in record_fields(r, PERIOD_SURVEY_FIELDS, site["timezone"])}
+        record = {label: value for label, value, _req in record_fields(r, (), site["timezone"])}
         record["Instrument"] = f"{r['camera_make']} {r['camera_model']} {r['camera_serial']}".strip() or "not recorded"
         record["Leaks found"] = str(r["leak_count"])
         record["survey_id"] = r["id"]
-        out.append(record)
+        out.append((record, r))
     return out
+
+
+def _tagged(store: Store, lines: list[LeakLine]) -> dict[str, bool]:
+    """Which of these leaks carry a physical tag (60.5397a/b(h)(4)(ii): a photo or a tag)."""
+    ids = [x.leak_id for x in lines]
+    if not ids:
+        return {}
+    return {r["id"]: bool(r["tag_attached"]) for r in store.rows(
+        f"SELECT id, tag_attached FROM leaks WHERE id IN ({','.join('?' * len(ids))})", ids)}
 
 
 @dataclass
@@ -452,8 +471,12 @@ def period_report(store: Store, start: date, end: date, site_id: str | None = No
     emissions, skipped = emission_report(store, start, end, end, convention, site_id)
     due, _problems = due_list(store, end, site_id)
     summaries = []
+    tagged = _tagged(store, lines)
     for site in sites:
         mine = [x for x in lines if x.site_id == site["id"]]
+        program = catalog.program(site["program_id"])
+        annual = program.annual_report
+        pairs = _survey_pairs(store, site, start, end)
         surveys = [r["started_at"][:10] + " " + r["method"] for r in store.rows(
             "SELECT started_at, method FROM surveys WHERE site_id = ? AND deleted = 0 AND substr(started_at, 1, 10) "
             "BETWEEN ? AND ? ORDER BY started_at", (site["id"], start.isoformat(), end.isoformat()))]
@@ -468,7 +491,7 @@ def period_report(store: Store, start: date, end: date, site_id: str | None = No
             site["name"], site["id"], site["program_id"], surveys, missed, len(mine),
             sum(1 for x in mine if x.state in ("repaired", "closed")), sum(1 for x in mine if x.state == "delayed"),
             sum(1 for x in mine if x.state in ("open", "attempted")), sum(1 for x in mine if x.state == "void"),
-            overdue, kg, h[100] / 1000, h[20] / 1000, surveys=_survey_rows(store, site, start, end), leaks=mine,
+            overdue, kg, h[100] / 1000, h[20] / 1000, surveys=[record for record, _row in pairs], leaks=mine,
             confirmed=sum(1 for x in mine if x.state == "closed"),
             not_confirmed=sum(1 for x in mine if x.state == "repaired"),
             leaks_by_type=dict(sorted(Counter(words(x.component_type) for x in mine if x.state != "void").items())),
@@ -478,7 +501,11 @@ def period_report(store: Store, start: date, end: date, site_id: str | None = No
                 for c in store.rows("SELECT * FROM components WHERE site_id = ? AND deleted = 0 AND "
                                     "(difficult_to_monitor = 1 OR unsafe_to_monitor = 1) ORDER BY tag",
                                     (site["id"],))],
-            record_citation=_record_citation(site["program_id"]),
+            record_citation=program.survey_records.citation if program.survey_records else "",
+            survey_table=survey_table(annual.survey_fields if annual else DEFAULT_SURVEY_FIELDS, pairs, mine,
+                                      start.isoformat(), end.isoformat()),
+            record_table=_record_table(program, site, pairs),
+            leak_table=leak_table(annual.leak_fields if annual else DEFAULT_LEAK_FIELDS, mine, tagged),
             facility_id=site.get("facility_id") or "", coordinates=dict(site_identifiers(site))[
                 "Latitude, longitude (decimal degrees)"]))
     made = store.now_text()

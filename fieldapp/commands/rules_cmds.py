@@ -118,6 +118,15 @@ def _print_program(program) -> None:
         if parts:
             print(f"delay of repair for parts: {parts.order.describe()}; {parts.repair.describe()}  "
                   f"({parts.citation}; {parts.status})")
+    if program.survey_records:
+        r = program.survey_records
+        print(f"survey records: {', '.join(r.value)}  ({r.citation}; {r.status})")
+    if program.annual_report:
+        for what, cited in (("per survey", program.annual_report.survey_fields),
+                            ("per leak", program.annual_report.leak_fields)):
+            print(f"annual report fields {what}: {', '.join(cited.value)}  ({cited.citation}; {cited.status})")
+    else:
+        print("annual report fields: none listed (reports use plumebook's default columns)")
 
 
 def _action(kind: str, on, **extra):

@@ -27,6 +27,14 @@ PERIODS = ("month", "bimonth", "quarter", "half", "year")
 SURVEY_RECORD_FIELDS = ("started_at", "ended_at", "operator", "qualification", "camera_make", "camera_model",
                         "camera_serial", "camera_check", "camera_check_note", "ambient_temp_c", "sky",
                         "wind_speed_m_s", "wind_max_m_s", "areas", "areas_done", "deviations", "compressor_modes")
+# What an annual (or periodic) report may hold, per survey and per leak; a program's [annual_report] lists
+# the ones its rule asks for (sync/report_fields.py gives each its label and value). Names are our own.
+REPORT_SURVEY_FIELDS = ("survey_date", "method", "instrument", "operator", "deviations", "leak_count",
+                        "leaks_by_type", "not_repaired_by_type", "on_delay_by_type", "planned_shutdowns",
+                        "compressor_modes", "calibration_records")
+REPORT_LEAK_FIELDS = ("tag", "component", "location", "detected_on", "instrument_reading",
+                      "photo_or_tag", "first_attempt", "repair", "resurvey", "repaired_as_required", "delay",
+                      "parts", "parts_expected_on", "planned_shutdown", "state")
 
 
 @dataclass(frozen=True, slots=True)
@@ -147,6 +155,14 @@ class CitedValue:
 
 
 @dataclass(frozen=True, slots=True)
+class AnnualReport:
+    """The fields a program's rule asks its annual report to hold: per survey and per leak, each cited."""
+
+    survey_fields: CitedValue
+    leak_fields: CitedValue
+
+
+@dataclass(frozen=True, slots=True)
 class Program:
     """A complete program file."""
 
@@ -168,6 +184,7 @@ class Program:
     survey_records: CitedValue | None = None
     leak_records: Mapping[str, CitedValue] | None = None
     exempt_site_kinds: Mapping[str, CitedValue] | None = None
+    annual_report: AnnualReport | None = None
 
     def inspections_for(self, kind: SiteKind) -> list[Inspection]:
         """The inspections that apply to a site kind."""
@@ -372,6 +389,35 @@ def _cited_values(r: _Reader, data: Mapping, path: str) -> dict[str, CitedValue]
     return result
 
 
+def _field_list(r: _Reader, data: Mapping, key: str, path: str, known: tuple[str, ...]) -> CitedValue | None:
+    """A cited list of report field names (``{ value = [...], citation, status }``), each one of ``known``."""
+    sub = r.get(data, key, path, dict)
+    if sub is None:
+        return None
+    names = r.get(sub, "value", f"{path}{key}.", list) or []
+    for i, name in enumerate(names):
+        if name not in known:
+            r.fail(f"{path}{key}.value[{i}]", f"{name!r} is not allowed; allowed: {', '.join(known)}")
+    if len(set(names)) != len(names):
+        r.fail(f"{path}{key}.value", "names a field twice")
+    if not names and isinstance(sub.get("value"), list):
+        r.fail(f"{path}{key}.value", "must name at least one field")
+    citation, status = r.cited(sub, f"{path}{key}.")
+    return CitedValue(tuple(names), citation, status)
+
+
+def _annual_report(r: _Reader, data: Mapping) -> AnnualReport | None:
+    sub = r.get(data, "annual_report", "", dict, False)
+    if sub is None:
+        return None
+    for key in sub:
+        if key not in ("survey_fields", "leak_fields"):
+            r.fail(f"annual_report.{key}", "is not allowed; allowed: survey_fields, leak_fields")
+    survey = _field_list(r, sub, "survey_fields", "annual_report.", REPORT_SURVEY_FIELDS)
+    leak = _field_list(r, sub, "leak_fields", "annual_report.", REPORT_LEAK_FIELDS)
+    return AnnualReport(survey, leak) if survey and leak else None
+
+
 def _table_list(r: _Reader, data: Mapping, key: str, read) -> list:
     """Read an array of tables with ``read(reader, table, path)``, naming each bad entry by index."""
     out = []
@@ -433,6 +479,7 @@ def parse_program(data: Mapping[str, Any]) -> tuple[Program | None, list[FieldPr
     for key in exempt:
         if key not in {k.value for k in SiteKind}:
             r.fail(f"exempt_site_kinds.{key}", f"is not a site kind; allowed: {allowed(SiteKind)}")
+    annual = _annual_report(r, data)
     limits = _cited_values(r, r.get(data, "survey_limits", "", dict, False) or {}, "survey_limits.")
     holidays = r.get(data, "business_days", "", dict, False) or {}
     country = r.get(holidays, "country", "business_days.", str, False) if holidays else None
@@ -446,7 +493,7 @@ def parse_program(data: Mapping[str, Any]) -> tuple[Program | None, list[FieldPr
         required_survey_fields=required_fields, survey_limits=limits,
         holiday_country=country, holiday_subdivision=subdivision,
         primary_method=SurveyMethod(primary) if primary else _first_method(inspections),
-        survey_records=records_cited, leak_records=leak_records, exempt_site_kinds=exempt,
+        survey_records=records_cited, leak_records=leak_records, exempt_site_kinds=exempt, annual_report=annual,
     ), []
 
 
@@ -498,4 +545,8 @@ def cited_values(program: Program) -> list[dict[str, Any]]:
     if program.survey_records:
         add("survey_records.required", list(program.survey_records.value), program.survey_records.citation,
             program.survey_records.status)
+    if program.annual_report:
+        for key in ("survey_fields", "leak_fields"):
+            cited = getattr(program.annual_report, key)
+            add(f"annual_report.{key}", list(cited.value), cited.citation, cited.status)
     return out
