@@ -53,7 +53,7 @@ def leak_fields(line: LeakLine, gwp_set: str, width: float):
         ("CO2e", f"{num(line.co2e_kg_per_h_100yr)} kg/h 100-yr, {num(line.co2e_kg_per_h_20yr)} kg/h 20-yr "
                  f"({gwp_set.upper()})"),
         ("Basis", line.factor_row), ("Source", line.estimate_source),
-    ], width)
+    ], width, label_share=0.8)
 
 
 def deadline_table(line: LeakLine, width: float) -> Table:
@@ -124,13 +124,20 @@ def picture(store: Store, photo: dict[str, Any], width: float, height: float) ->
     return img
 
 
-def photo_grid(store: Store, line: LeakLine, width: float, columns: int, first: int = 1) -> list:
-    """Photos ``first``.. of the leak in a grid of ``columns``, each with its caption, then its clips listed."""
+def photo_grid(store: Store, line: LeakLine, width: float, columns: int, first: int = 1,
+               progress: Progress | None = None) -> list:
+    """Photos ``first``.. of the leak in a grid of ``columns``, each with its caption, then its clips listed.
+
+    ``progress(1)`` after each photo is placed (its stored copy drawn if it was missing).
+    """
     out: list = []
     total = len(line.photos)
     cell = width / columns
-    cells = [[picture(store, p, cell - 4 * mm, (cell - 4 * mm) * 0.75), para(caption(n, total, p), "caption")]
-             for n, p in enumerate(line.photos[first - 1:], first)]
+    cells = []
+    for n, p in enumerate(line.photos[first - 1:], first):
+        cells.append([picture(store, p, cell - 4 * mm, (cell - 4 * mm) * 0.75), para(caption(n, total, p), "caption")])
+        if progress:
+            progress(1)
     if cells:
         rows = [cells[i:i + columns] for i in range(0, len(cells), columns)]
         rows[-1] += [""] * (columns - len(rows[-1]))

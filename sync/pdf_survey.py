@@ -35,9 +35,15 @@ def certification_block(statement: str) -> KeepTogether:
     return KeepTogether([para("Certification", "h2"), para(statement, "body"), Spacer(1, 4), lines])
 
 
-def _leak_block(store: Store, line, report: SurveyReport, progress: Progress | None = None) -> list:
+def _leak_block(store: Store, line, report: SurveyReport, progress: Progress | None = None,
+                lead: tuple = ()) -> list:
+    """One leak: heading, fields, deadlines and first photo; who did what; more photos; timeline.
+
+    Kept on one page when it fits; a longer one breaks between its pieces, never inside one. ``lead``
+    (the section heading before the first leak) is kept with the leak's first piece.
+    """
     marks = flags(line)
-    parts = [para(f"{line.tag} - {words(line.component_type)}, {words(line.service)} "
+    parts = [*lead, para(f"{line.tag} - {words(line.component_type)}, {words(line.service)} "
                   f"service - {words(line.state).upper()}" + (f" ({', '.join(marks)})" if marks else ""), "h3")]
     if line.hazard:
         parts.append(para(f"HAZARD: {line.hazard_note or 'flagged hazardous'}. Follow the site's emergency "
@@ -55,13 +61,16 @@ def _leak_block(store: Store, line, report: SurveyReport, progress: Progress | N
     s = report.survey
     people = people_table(line, s["operator"], f"{s['camera_make']} {s['camera_model']} "
                           f"{s['camera_serial']}".strip(), WIDTH)
-    parts += [row, Spacer(1, 3), para("Who did what", "small"), people, Spacer(1, 3)]
+    # kept together in pieces: a leak with many photos or a long timeline fills more than a page, and one
+    # block that size would be split anyway, leaving the heading before it alone at the foot of a page
+    out = [KeepTogether(parts + [row, Spacer(1, 3)]),
+           KeepTogether([para("Who did what", "small"), people, Spacer(1, 3)])]
     more = photo_grid(store, line, WIDTH, 3, first=2)
     if more:
-        parts += [para("More photos and clips of this leak", "small"), *more, Spacer(1, 3)]
-    parts += [para("Timeline (as `plumebook history` tells it)", "small"), timeline_table(line, WIDTH),
-              Spacer(1, 8), Tick(progress)]
-    return [KeepTogether(parts)]
+        out.append(KeepTogether([para("More photos and clips of this leak", "small"), *more, Spacer(1, 3)]))
+    out += [KeepTogether([para("Timeline (as `plumebook history` tells it)", "small"), timeline_table(line, WIDTH)]),
+            Spacer(1, 8)]
+    return [KeepTogether(out), Tick(progress)]
 
 
 def render(store: Store, report: SurveyReport, progress: Progress | None = None) -> bytes:
@@ -103,9 +112,9 @@ def render(store: Store, report: SurveyReport, progress: Progress | None = None)
                    [WIDTH * 0.3, WIDTH * 0.25, WIDTH * 0.45])]
     story += [para("Cautions", "h2")] + [para(c, "caution") for c in report.cautions]
     if report.leaks:
-        story += [PageBreak(), para("Leaks", "h2")]
-        for line in report.leaks:
-            story += _leak_block(store, line, report, progress)
+        story.append(PageBreak())
+        for n, line in enumerate(report.leaks):
+            story += _leak_block(store, line, report, progress, (para("Leaks", "h2"),) if n == 0 else ())
             if progress:
                 progress(1)
     story += [Spacer(1, 8), certification_block(report.certification), Spacer(1, 6),

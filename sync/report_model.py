@@ -470,13 +470,13 @@ class PeriodReport:
 
 
 def period_report(store: Store, start: date, end: date, site_id: str | None = None,
-                  convention: str = "detection") -> PeriodReport:
+                  convention: str = "detection", progress: Progress | None = None) -> PeriodReport:
     """Per site: surveys done and missed, leaks found / repaired / delayed / open, overdue, emissions."""
     book = catalog.factor_book()
     where = "AND id = ?" if site_id else ""
     sites = store.rows(f"SELECT * FROM sites WHERE deleted = 0 {where} ORDER BY name", (site_id,) if site_id else ())
-    lines = [x for x in leak_lines(store, leak_rows(store, site_id), end) if start.isoformat() <= x.detected_on <=
-             end.isoformat()]
+    lines = [x for x in leak_lines(store, leak_rows(store, site_id), end, progress=progress)
+             if start.isoformat() <= x.detected_on <= end.isoformat()]
     emissions, skipped = emission_report(store, start, end, end, convention, site_id)
     due, _problems = due_list(store, end, site_id)
     summaries = []

@@ -187,7 +187,8 @@ def _event(entry: dict[str, Any], what: str, tz: str) -> dict[str, Any]:
                                                    if values.get("hazard") else "")
     elif what == "component":
         on, at = _local(entry["at"], tz)
-        summary = f"component {values.get('tag')} ({values.get('type')}, {values.get('service')}) added"
+        summary = (f"component {values.get('tag')} ({str(values.get('type')).replace('_', ' ')}, "
+                   f"{str(values.get('service')).replace('_', ' ')}) added")
     else:
         on, at = _local(entry["at"], tz)
         old = entry["old"] or {}
