@@ -56,7 +56,7 @@ def grid(rows: list[list], widths: list[float], header: bool = True) -> Table:
 
 
 def fields(pairs: list[tuple[str, str]], width: float, label_share: float = 0.6) -> Table:
-    """Label/value pairs in two columns of pairs; ``label_share`` is a label column's share of a quarter of the width."""
+    """Label/value pairs in two columns of pairs; ``label_share``: a label column's share of a quarter width."""
     rows, row = [], []
     for label, value in pairs:
         row += [para(label, "small"), para(value or "-", "cell")]
