@@ -73,10 +73,9 @@ def render(store: Store, report: LeakReport, progress: Progress | None = None) -
                                                               ("unsafe to monitor", "unsafe_to_monitor"))
                                                if comp.get(k)) or "routine"),
                       ("Component id", comp.get("id") or "-")], WIDTH),
-              para("State and deadlines", "h2"),
+              para("State and deadlines", "h2"), _deadlines(report),
               para(f"State: {words(line.state)}. Each deadline with the rule it comes from; status says how the "
-                   "program file holds the value (text: read in the rule text).", "body"),
-              _deadlines(report)]
+                   "program file holds the value (text: read in the rule text).", "small")]
     if line.late:
         story.append(para(f"Done after the due date: {words(line.late).replace(';', ', ')}", "hazard"))
     story += [para("Who did what", "h2"), people_table(line, report.surveyor, report.instrument, WIDTH),
