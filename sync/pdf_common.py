@@ -55,8 +55,8 @@ def grid(rows: list[list], widths: list[float], header: bool = True) -> Table:
     return table
 
 
-def fields(pairs: list[tuple[str, str]], width: float) -> Table:
-    """Label/value pairs in two columns of pairs."""
+def fields(pairs: list[tuple[str, str]], width: float, label_share: float = 0.6) -> Table:
+    """Label/value pairs in two columns of pairs; ``label_share``: a label column's share of a quarter width."""
     rows, row = [], []
     for label, value in pairs:
         row += [para(label, "small"), para(value or "-", "cell")]
@@ -66,7 +66,7 @@ def fields(pairs: list[tuple[str, str]], width: float) -> Table:
     if row:
         rows.append(row + ["", ""])
     quarter = width / 4
-    table = Table(rows, colWidths=[quarter * 0.6, quarter * 1.4, quarter * 0.6, quarter * 1.4])
+    table = Table(rows, colWidths=[quarter * label_share, quarter * (2 - label_share)] * 2)
     table.setStyle(TableStyle([("VALIGN", (0, 0), (-1, -1), "TOP"), ("LINEBELOW", (0, 0), (-1, -1), 0.2, SHADE)]))
     return table
 

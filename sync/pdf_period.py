@@ -92,6 +92,6 @@ def _site_section(s: SiteSummary) -> list:
     return out
 
 
-def write_period_pdf(store: Store, start, end, out: Path, site_id: str | None = None) -> Path:
-    """Write the period summary PDF atomically."""
-    return write_bytes(out, render(period_report(store, start, end, site_id)))
+def write_period_pdf(store: Store, start, end, out: Path, site_id: str | None = None, progress=None) -> Path:
+    """Write the period summary PDF atomically; ``progress(1)`` as each leak of the site(s) is read."""
+    return write_bytes(out, render(period_report(store, start, end, site_id, progress=progress)))

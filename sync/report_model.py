@@ -10,6 +10,7 @@ from __future__ import annotations
 import hashlib
 import json
 from collections import Counter, defaultdict
+from collections.abc import Callable
 from dataclasses import asdict, dataclass, field
 from datetime import UTC, date, datetime
 from typing import Any
@@ -25,6 +26,7 @@ from fieldapp.store.reads import REPEAT_COUNT, REPEAT_MIN, facts_for
 from sync.report_fields import DEFAULT_LEAK_FIELDS, DEFAULT_SURVEY_FIELDS, ReportTable, leak_table, survey_table
 
 GWP_SET = "ar5"
+Progress = Callable[[int], object]  # called with how many items were just done (a progress bar's update)
 CAUTIONS = (
     "Programs in plumebook are summaries of published rules, not the rules. Follow the current rule text, "
     "your permit and local codes.",
@@ -93,8 +95,9 @@ class LeakLine:
     factor_value: float | None = None
     factor_unit: str = ""
     factor_terms: str = ""
-    photos: list[dict[str, str]] = field(default_factory=list)
-    timeline: list[dict[str, str]] = field(default_factory=list)
+    photos: list[dict[str, Any]] = field(default_factory=list)
+    timeline: list[dict[str, Any]] = field(default_factory=list)
+    clips: list[dict[str, Any]] = field(default_factory=list)
 
 
 def words(code: str | None) -> str:
@@ -114,48 +117,63 @@ def local_time(iso: str | None, zone: str) -> str:
     return f"{moment:%Y-%m-%d %H:%M} (UTC{offset[:3]}:{offset[3:]})"
 
 
-def _timeline(actions: list[dict[str, Any]], media: list[dict[str, Any]], zone: str) -> list[dict[str, str]]:
-    """A leak's events from its actions and photos, in the order they happened (what `history` tells)."""
-    out = []
-    for a in sorted(actions, key=lambda a: (a["done_on"], a["seq"], a["id"])):
-        detail = [a["reason"], a["note"]]
-        if a.get("method"):
-            detail.append(f"method {words(a['method'])}")
-        if a["instrument"]:
-            detail.append(f"instrument {a['instrument']}")
-        if a.get("delay_kind"):
-            detail.append(f"delay route: {words(a['delay_kind'])}")
-        for key, label in (("planned_on", "planned for"), ("shutdown_on", "shutdown"),
-                           ("parts_ordered_on", "parts ordered"), ("parts_received_on", "parts received")):
-            if a.get(key):
-                detail.append(f"{label} {a[key]}")
-        out.append({"on": a["done_on"], "event": words(a["kind"]), "by": a["actor"],
-                    "detail": "; ".join(d for d in detail if d)})
-    for m in media:
-        out.append({"on": (local_time(m["captured_at"] or m["added_at"], zone) or "")[:10], "event": "photo",
-                    "by": m["added_by"], "detail": f"{m['original_name']} SHA-256 {m['sha256'][:12]}"})
-    return sorted(out, key=lambda e: e["on"])
+# the fields of a `history` event (fieldapp.store.history.leak_timeline) a report shows, unchanged
+TIMELINE_KEYS = ("on", "at", "what", "summary", "actor", "recorded_at", "recorded_local", "device_id", "seq",
+                 "backdated", "sha256")
+EVENT_WORDS = {"component": "component added", "leak": "leak found", "edit": "edit"}
+
+
+def timeline_entry(event: dict[str, Any]) -> dict[str, Any]:
+    """A `history` event as a report's timeline entry: the same fields, plus ``event`` in words."""
+    entry = {k: event.get(k) for k in TIMELINE_KEYS}
+    if event["what"] == "action":
+        entry["event"] = words(event["new"].get("kind"))
+    elif event["what"] == "media":
+        entry["event"] = "clip" if event["new"].get("media_kind") == "video" else "photo"
+    else:
+        entry["event"] = EVENT_WORDS.get(event["what"], words(event["what"]))
+        if event["what"] == "edit" and event.get("op") == "delete":
+            entry["event"] = "removed"
+    return entry
 
 
 def _d(value: date | None) -> str:
     return value.isoformat() if value else ""
 
 
-def leak_lines(store: Store, rows: list[dict[str, Any]], as_of: date | None = None) -> list[LeakLine]:
-    """Report lines for leak rows from ``fieldapp.store.estimates.leak_rows``; overdue as of ``as_of``."""
+def leak_lines(store: Store, rows: list[dict[str, Any]], as_of: date | None = None,
+               recorded_by: date | None = None, progress: Progress | None = None) -> list[LeakLine]:
+    """Report lines for leak rows from ``fieldapp.store.estimates.leak_rows``; overdue as of ``as_of``.
+
+    Each line carries its photos and clips and the leak's timeline as `history` tells it
+    (``fieldapp.store.history.leak_timelines``, read in one pass for all the rows). ``recorded_by``
+    (a UTC day) keeps only the actions, media and events recorded by the end of that day.
+    ``progress(n)`` is called as lines are made (one per leak).
+    """
+    from fieldapp.store.history import leak_timelines
+
     as_of = as_of or datetime.fromtimestamp(store.wall(), UTC).date()
     if not rows:
         return []
     ids = [r["id"] for r in rows]
     marks = ",".join("?" * len(ids))
-    actions = store.rows(f"SELECT * FROM actions WHERE leak_id IN ({marks})", ids)
+    cutoff = f"{recorded_by.isoformat()}T99" if recorded_by else "9999"
+    actions = store.rows(f"SELECT * FROM actions WHERE leak_id IN ({marks}) AND recorded_at <= ?", [*ids, cutoff])
     facts = facts_for(rows, actions)
     rates = estimates(store, rows)
     book = catalog.factor_book()
     photos: dict[str, list[dict[str, Any]]] = defaultdict(list)
-    for m in store.rows(f"SELECT * FROM media WHERE deleted = 0 AND media_kind = 'photo' "
-                        f"AND leak_id IN ({marks}) ORDER BY added_at", ids):
-        photos[m["leak_id"]].append(m)
+    clips: dict[str, list[dict[str, Any]]] = defaultdict(list)
+    media = store.rows(f"SELECT * FROM media WHERE deleted = 0 AND leak_id IN ({marks}) AND added_at <= ? "
+                       "ORDER BY added_at, id", [*ids, cutoff])
+    markers: dict[str, list[dict[str, Any]]] = defaultdict(list)
+    for m in store.rows("SELECT k.media_id, k.x, k.y, k.label FROM json_each(?) t JOIN markers k ON k.media_id = "
+                        "t.value WHERE k.deleted = 0 ORDER BY k.rowid", (json.dumps([m["id"] for m in media]),)):
+        markers[m.pop("media_id")].append(m)
+    for m in media:
+        m["markers"] = markers.get(m["id"], [])
+        (photos if m["media_kind"] == "photo" else clips)[m["leak_id"]].append(m)
+    stories = leak_timelines(store, ids, recorded_by.isoformat() if recorded_by else None)
     by_leak: dict[str, list[dict[str, Any]]] = defaultdict(list)
     for a in actions:
         by_leak[a["leak_id"]].append(a)
@@ -194,11 +212,24 @@ def leak_lines(store: Store, rows: list[dict[str, Any]], as_of: date | None = No
             estimate_source="" if isinstance(rate, EstimateError) else rate.source,
             photo_sha256=[m["sha256"] for m in photos.get(row["id"], [])],
             **_extra(row, f, by_leak.get(row["id"], []), photos.get(row["id"], []), rate),
+            clips=[_media_entry(m, row["timezone"]) for m in clips.get(row["id"], [])],
+            timeline=[timeline_entry(e) for e in stories[row["id"]]["events"]],
             repeat_leaker=repeat.get(row["id"], False),
             difficult_to_monitor=bool(flags[row["id"]]["difficult_to_monitor"]),
             unsafe_to_monitor=bool(flags[row["id"]]["unsafe_to_monitor"]),
         ))
+        if progress:
+            progress(1)
     return out
+
+
+def _media_entry(m: dict[str, Any], zone: str) -> dict[str, Any]:
+    """A photo or clip as a report shows it: file, capture and adding time on the site's clock, SHA-256,
+    and what a PDF needs to place its stored copy (id, markers)."""
+    return {"sha256": m["sha256"], "file": m["original_name"], "kind": "clip" if m["media_kind"] == "video"
+            else m["media_kind"], "taken": local_time(m["captured_at"], zone) or "not recorded",
+            "added": local_time(m["added_at"], zone), "added_by": m["added_by"], "media_id": m["id"],
+            "seconds": m["duration_s"], "markers": m["markers"]}
 
 
 def _last(actions: list[dict[str, Any]], *kinds: str) -> dict[str, Any]:
@@ -234,10 +265,7 @@ def _extra(row: dict[str, Any], f, actions: list[dict[str, Any]], media: list[di
         "delay_kind": words(f.delay.kind.value) if f.delay else "",
         "parts_ordered_on": _d(f.delay.parts_ordered_on) if f.delay else "",
         "parts_received_on": _d(f.delay.parts_received_on) if f.delay else "",
-        "photos": [{"sha256": m["sha256"], "file": m["original_name"],
-                    "taken": local_time(m["captured_at"], zone) or "not recorded",
-                    "added": local_time(m["added_at"], zone)} for m in media],
-        "timeline": _timeline(actions, media, zone),
+        "photos": [_media_entry(m, zone) for m in media],
         **factor,
     }
 
@@ -334,13 +362,14 @@ def tag_cautions(store: Store, site_ids: set[str]) -> tuple[str, ...]:
                  for c in tag_collisions(store) if c["site_id"] in site_ids)
 
 
-def survey_report(store: Store, survey_id: str, as_of: date | None = None) -> SurveyReport:
+def survey_report(store: Store, survey_id: str, as_of: date | None = None,
+                  progress: Progress | None = None) -> SurveyReport:
     """The report model of one survey; deadlines are marked overdue as of ``as_of`` (default today, UTC)."""
     as_of = as_of or datetime.fromtimestamp(store.wall(), UTC).date()
     survey = store.get("surveys", survey_id)
     site = store.get("sites", survey["site_id"])
     program = catalog.program(site["program_id"])
-    lines = leak_lines(store, leak_rows(store, survey_id=survey_id), as_of)
+    lines = leak_lines(store, leak_rows(store, survey_id=survey_id), as_of, progress=progress)
     tz = ZoneInfo(site["timezone"])
     survey = {**survey, "started_local": datetime.fromisoformat(survey["started_at"]).astimezone(tz).isoformat(),
               "ended_local": datetime.fromisoformat(survey["ended_at"]).astimezone(tz).isoformat()
@@ -461,13 +490,13 @@ class PeriodReport:
 
 
 def period_report(store: Store, start: date, end: date, site_id: str | None = None,
-                  convention: str = "detection") -> PeriodReport:
+                  convention: str = "detection", progress: Progress | None = None) -> PeriodReport:
     """Per site: surveys done and missed, leaks found / repaired / delayed / open, overdue, emissions."""
     book = catalog.factor_book()
     where = "AND id = ?" if site_id else ""
     sites = store.rows(f"SELECT * FROM sites WHERE deleted = 0 {where} ORDER BY name", (site_id,) if site_id else ())
-    lines = [x for x in leak_lines(store, leak_rows(store, site_id), end) if start.isoformat() <= x.detected_on <=
-             end.isoformat()]
+    lines = [x for x in leak_lines(store, leak_rows(store, site_id), end, progress=progress)
+             if start.isoformat() <= x.detected_on <= end.isoformat()]
     emissions, skipped = emission_report(store, start, end, end, convention, site_id)
     due, _problems = due_list(store, end, site_id)
     summaries = []

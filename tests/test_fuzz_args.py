@@ -68,6 +68,8 @@ TEMPLATES = [
     ["export", "csv", "--out", "{files}/csv", "--site", "V"],
     ["report", "period", "--from", "V", "--to", "2026-12-01", "--out", "{files}/p.pdf"],
     ["report", "survey", "V", "--out", "{files}/s.pdf"],
+    ["report", "leak", "V", "--out", "{files}/k.pdf"],
+    ["report", "leak", "{leak}", "--as-of", "V", "--out", "{files}/k.pdf"],
     ["app", "--screen", "V"],
     ["--actor", "V", "device"],
 ]

@@ -1,11 +1,11 @@
-"""Commands for filings: export csv, report survey, report period."""
+"""Commands for filings: export csv, report survey, report leak, report period."""
 
 from __future__ import annotations
 
 import argparse
 from pathlib import Path
 
-from fieldapp.cmdkit import open_store, parse_day, required_text, steps
+from fieldapp.cmdkit import open_store, parse_day, progress, required_text, steps
 from fieldapp.core.fields import FieldProblem, ValidationError
 from fieldapp.paths import output_file, output_folder
 
@@ -25,9 +25,19 @@ def register(sub: argparse._SubParsersAction) -> None:
     p = sub.add_parser("report", help="PDF reports")
     what = p.add_subparsers(dest="what", required=True, metavar="WHAT")
     s = what.add_parser("survey", help="survey report")
-    s.add_argument("survey_id")
+    s.add_argument("survey_id", metavar="SURVEY", help="survey id, or SITE@YYYY-MM-DD (the survey started that "
+                   "local day at the site)")
     s.add_argument("--out", required=True, type=Path)
     s.set_defaults(handler=cmd_survey)
+    k = what.add_parser("leak", help="one leak's whole record for an auditor: fields, component, deadlines with "
+                        "citations, who did what, timeline, photos, certification")
+    k.add_argument("leak", metavar="LEAK", help="leak id, TAG (its open leak, or its only one) or TAG@YYYY-MM-DD "
+                   "(the leak found that local day)")
+    k.add_argument("--out", required=True, type=Path, help="PDF file to write")
+    k.add_argument("--site", help="site id or name, when the tag is used at several sites")
+    k.add_argument("--as-of", help="date YYYY-MM-DD: the record as it stood at the end of that day (UTC), "
+                   "deadlines judged that day")
+    k.set_defaults(handler=cmd_leak)
     r = what.add_parser("period", help="period summary for filings")
     r.add_argument("--from", dest="start", required=True)
     r.add_argument("--to", dest="end", required=True)
@@ -66,10 +76,33 @@ def cmd_csv(args: argparse.Namespace) -> int:
 
 
 def cmd_survey(args: argparse.Namespace) -> int:
+    from fieldapp.store.names import resolve_survey
     from sync.pdf_survey import write_survey_pdf
 
+    key = required_text(args.survey_id, "survey")
     output_file(args.out, "out")
-    print(write_survey_pdf(open_store(args), args.survey_id, args.out))
+    store = open_store(args)
+    survey = resolve_survey(store, key, "survey")
+    leaks = store.rows("SELECT COUNT(*) AS n FROM leaks WHERE survey_id = ? AND deleted = 0", (survey["id"],))[0]["n"]
+    with progress(3 * leaks, "survey report steps") as bar:
+        path = write_survey_pdf(store, survey["id"], args.out, bar.update)
+    print(path)
+    return 0
+
+
+def cmd_leak(args: argparse.Namespace) -> int:
+    from fieldapp.store.names import resolve_leak
+    from sync.pdf_leak import steps, write_leak_pdf
+
+    key = required_text(args.leak, "leak")
+    as_of = parse_day(args.as_of, "as-of") if args.as_of is not None else None
+    required_text(args.site, "site")
+    output_file(args.out, "out")
+    store = open_store(args)
+    leak = resolve_leak(store, key, _site(store, args.site), "leak", closed_too=True)
+    with progress(steps(store, leak["id"]), "leak record steps") as bar:
+        path = write_leak_pdf(store, leak["id"], args.out, as_of, bar.update)
+    print(path)
     return 0
 
 
@@ -80,5 +113,10 @@ def cmd_period(args: argparse.Namespace) -> int:
     required_text(args.site, "site")
     output_file(args.out, "out")
     store = open_store(args)
-    print(write_period_pdf(store, start, end, args.out, _site(store, args.site)))
+    site_id = _site(store, args.site)
+    leaks = store.rows("SELECT COUNT(*) AS n FROM leaks l JOIN surveys v ON v.id = l.survey_id WHERE l.deleted = 0"
+                       + (" AND v.site_id = ?" if site_id else ""), (site_id,) if site_id else ())[0]["n"]
+    with progress(leaks, "period summary leaks") as bar:
+        path = write_period_pdf(store, start, end, args.out, site_id, progress=bar.update)
+    print(path)
     return 0
