@@ -317,9 +317,12 @@ def record_fields(survey: dict[str, Any], required: tuple[str, ...], zone: str) 
 
 
 def site_identifiers(site: dict[str, Any]) -> list[tuple[str, str]]:
-    """Facility / permit id and coordinates (decimal degrees to 4 places) as label/value pairs."""
+    """Facility / permit id and coordinates as label/value pairs.
+
+    Coordinates in decimal degrees to five places: 40 CFR 60.5420b(b)(1)(i) asks "an accuracy
+    and precision of five (5) decimals of a degree" (docs/report-fields.md)."""
     lat, lon = site.get("latitude"), site.get("longitude")
-    coords = (f"{lat:.4f}, {lon:.4f}" if lat is not None and lon is not None else "not recorded")
+    coords = (f"{lat:.5f}, {lon:.5f}" if lat is not None and lon is not None else "not recorded")
     return [("Facility / permit id", site.get("facility_id") or "not recorded"),
             ("Latitude, longitude (decimal degrees)", coords),
             ("Datum", site.get("datum") or "not recorded"), ("Site kind", words(site["kind"])),

@@ -1,14 +1,14 @@
 """Filing-grade outputs: the PDFs read back hold what the rule asks a survey record and an annual report to
 hold; pages keep inside their margins; CSV cells round-trip and are not run as formulas; files follow the umask.
 
-Rule sources (verbatim quotes in the project's helper notes, eCFR prints of 9/10-9/11/2026):
+Rule sources (verbatim quotes in docs/report-fields.md, eCFR prints of 9/10-9/11/2026):
 - 40 CFR 60.5420a(c)(15)(vii)(A)-(I): date, begin and end time, operator with training and experience,
   instrument, ambient temperature, sky conditions, maximum wind speed, deviations or the statement of none;
   per leak the first attempt, the repair with the resurvey and its instrument, delay of repair and parts dates.
 - 40 CFR 60.5420b(b)(9)(ii)(A)-(G): per survey in the annual report its date, instrument, deviations, and the
   number and type of components with leaks / not repaired / on delay.
 - Site coordinates: 60.5420b(b)(1)(i) asks decimal degrees to five places, NAD83, where a site has no address
-  (read 9/10/2026, docs/report-fields.md); the reports show four places.
+  (read 9/10/2026, docs/report-fields.md); the reports show five places.
 """
 
 from __future__ import annotations
@@ -55,8 +55,8 @@ def test_survey_pdf_holds_site_ids_record_fields_people_photos_and_certification
     text = flat(render_survey(demo_store, report))
     site = report.site
     assert site["facility_id"] and site["facility_id"] in text
-    # decimal degrees to four places: what the report shows (the rule asks five, see the module docstring)
-    assert f"{site['latitude']:.4f}, {site['longitude']:.4f}" in text
+    # decimal degrees to five places, as 60.5420b(b)(1)(i) asks (see the module docstring)
+    assert f"{site['latitude']:.5f}, {site['longitude']:.5f}" in text
     required = [(label, value) for label, value, req in report.record if req]
     # every field the program lists (us-nsps-oooo-a survey_records.required, 60.5420a(c)(15)(vii)(A)-(H))
     for label in ("Date of the survey", "Begin time", "End time", "Operator", "Operator training and experience",

@@ -102,7 +102,7 @@ def test_report_leak_of_the_demos_repaired_leak_reads_back_whole(demo_store, tmp
     for m in media:
         sha = hashlib.sha256(library(demo_store).original(m["sha256"]).read_bytes()).hexdigest()
         assert f"{m['original_name']}, taken" in text and f"SHA-256 {sha[:16]}" in text
-    assert "DEMO-CS-0417" in text and "40.1234, -104.5678" in text  # site identifiers (demo scenario)
+    assert "DEMO-CS-0417" in text and "40.12340, -104.56780" in text  # site identifiers (demo scenario), five places
     assert "Certification" in text and CERTIFICATION in text
     assert all(blank in text for blank in ("Name", "Title", "Signature", "Date"))
     assert "H2S" in text  # the usual caution
