@@ -8,6 +8,7 @@ from reportlab.lib import colors
 from reportlab.lib.pagesizes import LETTER
 from reportlab.lib.styles import ParagraphStyle, getSampleStyleSheet
 from reportlab.lib.units import mm
+from reportlab.pdfbase.pdfmetrics import stringWidth
 from reportlab.pdfgen import canvas
 from reportlab.platypus import Paragraph, Table, TableStyle
 
@@ -37,18 +38,70 @@ STYLES = {
 }
 
 
+class _Para(Paragraph):
+    """A Paragraph that breaks its lines once per width.
+
+    Tables and KeepTogether measure their content before the frame lays it out, so the same paragraph
+    is wrapped several times at the same width; reportlab's Paragraph.wrap reads only the width (not the
+    height), so its answer for a width it has already broken at is reused (tests/bench/bench_report.py).
+    """
+
+    def _key(self, width: float) -> tuple:
+        # a split copies attributes into new paragraphs: the key also names the text and lines it was made for
+        return width, id(self.frags), id(self.__dict__.get("blPara"))
+
+    def wrap(self, availWidth, availHeight):  # noqa: N803 (reportlab's names)
+        if self.__dict__.get("_wrap_key") == self._key(availWidth):
+            return self.width, self.height
+        answer = super().wrap(availWidth, availHeight)
+        self._wrap_key = self._key(availWidth) if answer[1] != 0x7FFFFFFF else None
+        return answer
+
+
+class Grid(Table):
+    """A Table that measures itself once per available size.
+
+    KeepTogether and nested tables ask a table's size several times at the same place before it is drawn;
+    reportlab recomputes every cell each time. The answer depends only on the available width and height
+    (the height only for long tables), so it is reused for the same pair (tests/bench/bench_report.py).
+    """
+
+    def wrap(self, availWidth, availHeight):  # noqa: N803 (reportlab's names)
+        key = (availWidth, availHeight)
+        if self.__dict__.get("_wrap_key") == key:
+            return self._width, self._height
+        answer = super().wrap(availWidth, availHeight)
+        self._wrap_key = key
+        return answer
+
+
+CELL_PAD = 6  # reportlab's default left and right cell padding, points
+
+
 def para(text: str, style: str = "body") -> Paragraph:
     """A paragraph with the text escaped for reportlab's mini-markup."""
     safe = str(text).replace("&", "&amp;").replace("<", "&lt;").replace(">", "&gt;")
-    return Paragraph(safe, STYLES[style])
+    return _Para(safe, STYLES[style])
+
+
+def _cell(text: str, width: float):
+    """A string cell as it is when it fits on one line of its column (drawn by the table itself, the same
+    font, size and leading as the "cell" paragraph style), else a wrapped paragraph."""
+    cell = STYLES["cell"]
+    if "\n" not in text and stringWidth(text, cell.fontName, cell.fontSize) <= width - 2 * CELL_PAD:
+        return text
+    return para(text, "cell")
 
 
 def grid(rows: list[list], widths: list[float], header: bool = True) -> Table:
-    """A table with light rules; cells that are strings become wrapped paragraphs."""
-    data = [[para(c, "cell") if isinstance(c, str) else c for c in row] for row in rows]
-    table = Table(data, colWidths=widths, repeatRows=1 if header else 0)
+    """A table with light rules; string cells that do not fit one line become wrapped paragraphs."""
+    data = [[_cell(c, w) if isinstance(c, str) else c for c, w in zip(row, widths, strict=False)] for row in rows]
+    table = Grid(data, colWidths=widths, repeatRows=1 if header else 0)
+    cell = STYLES["cell"]
     style = [("GRID", (0, 0), (-1, -1), 0.3, RULE), ("VALIGN", (0, 0), (-1, -1), "TOP"),
-             ("TOPPADDING", (0, 0), (-1, -1), 2), ("BOTTOMPADDING", (0, 0), (-1, -1), 2)]
+             ("TOPPADDING", (0, 0), (-1, -1), 2), ("BOTTOMPADDING", (0, 0), (-1, -1), 2),
+             ("LEFTPADDING", (0, 0), (-1, -1), CELL_PAD), ("RIGHTPADDING", (0, 0), (-1, -1), CELL_PAD),
+             ("FONT", (0, 0), (-1, -1), cell.fontName, cell.fontSize, cell.leading)]
     if header:
         style.append(("BACKGROUND", (0, 0), (-1, 0), SHADE))
     table.setStyle(TableStyle(style))
@@ -66,7 +119,7 @@ def fields(pairs: list[tuple[str, str]], width: float, label_share: float = 0.6)
     if row:
         rows.append(row + ["", ""])
     quarter = width / 4
-    table = Table(rows, colWidths=[quarter * label_share, quarter * (2 - label_share)] * 2)
+    table = Grid(rows, colWidths=[quarter * label_share, quarter * (2 - label_share)] * 2)
     table.setStyle(TableStyle([("VALIGN", (0, 0), (-1, -1), "TOP"), ("LINEBELOW", (0, 0), (-1, -1), 0.2, SHADE)]))
     return table
 

@@ -11,7 +11,7 @@ from reportlab.lib.styles import ParagraphStyle
 from reportlab.platypus import Flowable, Paragraph, Table, TableStyle
 from reportlab.platypus.doctemplate import FrameBreak
 
-from sync.pdf_common import RULE, SHADE, STYLES
+from sync.pdf_common import RULE, SHADE, STYLES, Grid
 
 # a table wider than this many columns is set in smaller type so its words fit their columns
 NARROW_AT = 10
@@ -42,7 +42,7 @@ def column_table(columns: list[str], weights: list[float], rows: list[list[str]]
     last = len(data) - 1
     if notes:
         data.append([[_cell(n, STYLES["small"]) for n in notes]] + [""] * (len(columns) - 1))
-    table = Table(data, colWidths=[width * w / total for w in weights], repeatRows=1)
+    table = Grid(data, colWidths=[width * w / total for w in weights], repeatRows=1)
     pad = 3 if narrow else 6
     style = [("GRID", (0, 0), (-1, last), 0.3, RULE), ("VALIGN", (0, 0), (-1, -1), "TOP"),
              ("TOPPADDING", (0, 0), (-1, -1), 2), ("BOTTOMPADDING", (0, 0), (-1, -1), 2),

@@ -13,7 +13,8 @@ from reportlab.platypus import Flowable, Image, Table
 
 from fieldapp.evidence.ingest import ensure
 from fieldapp.store.base import Store
-from sync.pdf_common import fields, grid, para
+from sync.pdf_common import Grid, fields, grid, para
+from sync.report_fields import METHOD_WORDS
 from sync.report_model import LeakLine, Progress, words
 
 
@@ -71,15 +72,20 @@ def deadline_table(line: LeakLine, width: float) -> Table:
     ], [width * 0.24, width * 0.38, width * 0.38])
 
 
+def method_words(code: str) -> str:
+    """'ogi' -> 'OGI', 'method21' -> 'Method 21', 'avo' -> 'AVO'; '-' when there is none."""
+    return METHOD_WORDS.get((code or "").replace(" ", ""), code) or "-"
+
+
 def people_table(line: LeakLine, surveyor: str, instrument: str, width: float) -> Table:
     """Who detected, made the first attempt, repaired and resurveyed, with method, instrument and date."""
     rows = [["step", "by", "method / instrument", "date"],
-            ["detection", surveyor or "-", f"{line.detection_method or '-'} / {instrument or '-'}",
+            ["detection", surveyor or "-", f"{method_words(line.detection_method)} / {instrument or '-'}",
              line.detected_on or "-"],
             ["first attempt", line.first_attempt_by or "-", "-", line.first_attempt_on or "-"],
             ["repair", line.repaired_by or "-", "-", line.repaired_on or "-"],
             ["resurvey", line.resurveyed_by or "-",
-             f"{line.resurvey_method or '-'} / {line.resurvey_instrument or '-'}", line.resurveyed_on or "-"]]
+             f"{method_words(line.resurvey_method)} / {line.resurvey_instrument or '-'}", line.resurveyed_on or "-"]]
     if line.delay_on:
         rows.append(["delay of repair", f"route: {line.delay_kind or '-'}", line.delay_reason or "-",
                      f"from {line.delay_on}, limit {line.delay_limit or 'not set yet'}"])
@@ -141,7 +147,7 @@ def photo_grid(store: Store, line: LeakLine, width: float, columns: int, first: 
     if cells:
         rows = [cells[i:i + columns] for i in range(0, len(cells), columns)]
         rows[-1] += [""] * (columns - len(rows[-1]))
-        table = Table(rows, colWidths=[cell] * columns)
+        table = Grid(rows, colWidths=[cell] * columns)
         table.setStyle([("VALIGN", (0, 0), (-1, -1), "TOP"), ("LEFTPADDING", (0, 0), (-1, -1), 0),
                         ("RIGHTPADDING", (0, 0), (-1, -1), 4 * mm), ("BOTTOMPADDING", (0, 0), (-1, -1), 4)])
         out.append(table)

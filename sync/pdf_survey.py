@@ -5,11 +5,12 @@ from __future__ import annotations
 from pathlib import Path
 
 from reportlab.lib.units import mm
-from reportlab.platypus import KeepTogether, PageBreak, SimpleDocTemplate, Spacer, Table
+from reportlab.platypus import KeepTogether, PageBreak, SimpleDocTemplate, Spacer
 
 from fieldapp.atomic import write_bytes
 from fieldapp.store.base import Store
-from sync.pdf_common import MARGIN, PAGE, bar_chart, fields, grid, numbered_canvas, para
+from fieldapp.store.bulk import gc_paused
+from sync.pdf_common import MARGIN, PAGE, Grid, bar_chart, fields, grid, numbered_canvas, para
 from sync.pdf_leak_parts import (
     Tick,
     caption,
@@ -56,7 +57,7 @@ def _leak_block(store: Store, line, report: SurveyReport, progress: Progress | N
                  para(caption(1, len(line.photos), line.photos[0]), "caption")]
     else:
         right = [para("no photo", "small")]
-    row = Table([[left, right]], colWidths=[WIDTH * 0.58, WIDTH * 0.42])
+    row = Grid([[left, right]], colWidths=[WIDTH * 0.58, WIDTH * 0.42])
     row.setStyle([("VALIGN", (0, 0), (-1, -1), "TOP"), ("LEFTPADDING", (0, 0), (-1, -1), 0)])
     s = report.survey
     people = people_table(line, s["operator"], f"{s['camera_make']} {s['camera_model']} "
@@ -121,7 +122,8 @@ def render(store: Store, report: SurveyReport, progress: Progress | None = None)
               para(f"Made by plumebook at {report.made_at_local or report.made_at} (site time). The fingerprint in "
                    "the footer is the SHA-256 of the records this report was made from.", "small")]
     header = f"plumebook survey report - {site['name']} - {s['started_local'][:10]}"
-    doc.build(story, canvasmaker=numbered_canvas(header, report.fingerprint))
+    with gc_paused():  # layout builds many short-lived objects; one collection afterwards (bench_report)
+        doc.build(story, canvasmaker=numbered_canvas(header, report.fingerprint))
     return buffer.getvalue()
 
 

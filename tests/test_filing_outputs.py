@@ -71,7 +71,9 @@ def test_survey_pdf_holds_site_ids_record_fields_people_photos_and_certification
         if line.repaired_on:
             assert line.repaired_by and f"repair {line.repaired_by}" in text
         if line.resurveyed_on:
-            assert line.resurvey_method and f"{line.resurvey_method} / {line.resurvey_instrument}" in text
+            # the method in the rule's own words (OGI, Method 21, AVO), the instrument as recorded
+            words = {"ogi": "OGI", "method21": "Method 21", "avo": "AVO"}[line.resurvey_method]
+            assert f"{words} / {line.resurvey_instrument}" in text
         for photo in line.photos:
             assert f"{photo['file']}, taken {photo['taken']}, SHA-256 {photo['sha256'][:16]}" in text
     assert any(x.resurveyed_on for x in report.leaks)

@@ -89,7 +89,7 @@ def test_report_leak_of_the_demos_repaired_leak_reads_back_whole(demo_store, tmp
         assert f"{step} {actions[kind]['actor']}" in text, step  # who did what
         assert actions[kind]["done_on"] in text
     resurvey = actions["resurvey_passed"]
-    assert f"{resurvey['method']} / {resurvey['instrument']}" in text
+    assert resurvey["method"] == "ogi" and f"OGI / {resurvey['instrument']}" in text  # the method in the rule's words
     # the deadlines and their citations: 30 calendar days from detection / from the first attempt
     detected = datetime.fromisoformat(leak["detected_at"]).date()
     assert f"first attempt {detected + timedelta(days=30)}" in text  # 40 CFR 60.5397a(h)(1)
