@@ -7,11 +7,11 @@ from pathlib import Path
 
 from reportlab.lib.pagesizes import landscape
 from reportlab.lib.units import mm
-from reportlab.platypus import CondPageBreak, SimpleDocTemplate, Spacer
+from reportlab.platypus import CondPageBreak, KeepTogether, SimpleDocTemplate, Spacer
 
 from fieldapp.atomic import write_bytes
 from fieldapp.store.base import Store
-from sync.pdf_common import MARGIN, PAGE, bar_chart, grid, numbered_canvas, para
+from sync.pdf_common import MARGIN, PAGE, bar_chart, fields, grid, numbered_canvas, para
 from sync.pdf_flow import HeadWithRows, column_table
 from sync.pdf_survey import certification_block
 from sync.report_fields import ReportTable
@@ -74,8 +74,8 @@ def _table(title: str, table: ReportTable | None, empty: str, what: str) -> list
 def _site_section(s: SiteSummary) -> list:
     """One site: identifiers, the surveys and leaks in the columns its program lists, counts, not monitored."""
     out: list = [CondPageBreak(60 * mm), para(s.site, "h2"),
-                 para(f"Facility / permit id {s.facility_id or 'not recorded'}; latitude, longitude {s.coordinates}; "
-                      f"program {s.program_id}.", "body")]
+                 KeepTogether([fields(s.site_fields, WIDTH),
+                               para(f"Program {s.program_id}. Report fields per site: {s.site_citation}", "small")])]
     out += _table("Surveys in the period", s.survey_table, "none in the period", "Report fields per survey")
     out += _table("Survey records", s.record_table, "none in the period", "Survey record fields")
     out.append(para("Survey windows missed: " + ("; ".join(s.windows_missed) or "none"),

@@ -38,8 +38,22 @@ LEAK_COLUMNS: dict[str, tuple[str, float]] = {
     "parts_expected_on": ("Part delivery expected", 0.7), "planned_shutdown": ("Planned shutdown", 0.8),
     "state": ("State", 0.8),
 }
+SITE_LABELS: dict[str, str] = {
+    "company": "Company", "site_name": "Facility site name", "facility_id": "Facility / permit id",
+    "location": "Site location", "coordinates": "Latitude, longitude (decimal degrees, 5 places)",
+    "reporting_period": "Reporting period", "site_kind": "Type of site", "startup_date": "Startup date",
+    "well_site_type": "Type of well site", "wellhead_only_since": "Wellhead-only since",
+    "equipment_added_back_on": "Major equipment added back on", "well_closure_dates": "Well closure dates",
+}
+# the well-site types of 60.5420b(b)(9)(i)(C), by site kind (core.enums.SiteKind); a generic well site has none
+WELL_SITE_KINDS = {"single_wellhead": "single wellhead only well site", "small_well_site": "small well site",
+                   "multi_wellhead": "multi-wellhead only well site",
+                   "well_site_major_equipment": "well site with major production and processing equipment"}
 # fields plumebook does not keep, and why; shown as "not recorded"
 STORE_LACKS = {
+    "wellhead_only_since": "plumebook keeps a site's kind, not the date it changed to wellhead only",
+    "equipment_added_back_on": "plumebook keeps a site's kind, not the date major equipment was added back",
+    "well_closure_dates": "plumebook does not keep well closure dates (cessation of production, closure, notices)",
     "calibration_records": "plumebook keeps the daily verification of the camera, not instrument calibration records",
     "parts_expected_on": "plumebook records when a part was ordered and received, not the delivery date expected",
 }
@@ -215,3 +229,23 @@ def leak_table(fields: CitedValue, lines: list, tagged: dict[str, bool]) -> Repo
     rows = [[leak_cell(n, x, tagged.get(x.leak_id, False)) for n in names] for x in lines]
     return ReportTable(names, [LEAK_COLUMNS[n][0] for n in names], [LEAK_COLUMNS[n][1] for n in names], rows,
                        fields.citation, fields.status, _lacking(names, LEAK_COLUMNS))
+
+
+DEFAULT_SITE_FIELDS = CitedValue(("company", "site_name", "facility_id", "coordinates", "site_kind", "startup_date"),
+                                 "plumebook default: the program file lists no annual_report site fields", "company")
+
+
+def site_pairs(names: Iterable[str], site: dict[str, Any], start: str, end: str,
+               coordinates: str) -> list[tuple[str, str]]:
+    """The site items the program lists, as (label, value); a kept value that is empty says "not recorded"."""
+    kind = site.get("kind") or ""
+    values = {
+        "company": site.get("operator"), "site_name": site.get("name"), "facility_id": site.get("facility_id"),
+        "location": site.get("location"),
+        "coordinates": f"{coordinates} ({site.get('datum') or 'datum not recorded'})"
+        if coordinates != NOT_RECORDED else None,
+        "reporting_period": f"{start} to {end}", "site_kind": kind.replace("_", " "),
+        "startup_date": site.get("startup_date"),
+        "well_site_type": WELL_SITE_KINDS.get(kind, None if kind == "well_site" else "not a well site"),
+    }
+    return [(SITE_LABELS[n], str(values.get(n) or NOT_RECORDED)) for n in names]

@@ -23,7 +23,17 @@ from fieldapp.store.base import Store
 from fieldapp.store.due import due_list
 from fieldapp.store.estimates import emission_report, estimates, leak_rows
 from fieldapp.store.reads import REPEAT_COUNT, REPEAT_MIN, facts_for
-from sync.report_fields import DEFAULT_LEAK_FIELDS, DEFAULT_SURVEY_FIELDS, ReportTable, leak_table, survey_table
+from sync.report_fields import (
+    DEFAULT_LEAK_FIELDS,
+    DEFAULT_SITE_FIELDS,
+    DEFAULT_SURVEY_FIELDS,
+    SITE_LABELS,
+    STORE_LACKS,
+    ReportTable,
+    leak_table,
+    site_pairs,
+    survey_table,
+)
 
 GWP_SET = "ar5"
 Progress = Callable[[int], object]  # called with how many items were just done (a progress bar's update)
@@ -432,6 +442,8 @@ class SiteSummary:
     survey_table: ReportTable | None = None
     record_table: ReportTable | None = None
     leak_table: ReportTable | None = None
+    site_fields: list[tuple[str, str]] = field(default_factory=list)
+    site_citation: str = ""
 
 
 def _record_table(program, site: dict[str, Any], pairs: list[tuple[dict[str, str], dict[str, Any]]]) -> ReportTable:
@@ -508,6 +520,8 @@ def period_report(store: Store, start: date, end: date, site_id: str | None = No
         mine = [x for x in lines if x.site_id == site["id"]]
         program = catalog.program(site["program_id"])
         annual = program.annual_report
+        site_listed = annual.site_fields if annual and annual.site_fields else DEFAULT_SITE_FIELDS
+        coordinates = dict(site_identifiers(site))["Latitude, longitude (decimal degrees)"]
         pairs = _survey_pairs(store, site, start, end)
         surveys = [r["started_at"][:10] + " " + r["method"] for r in store.rows(
             "SELECT started_at, method FROM surveys WHERE site_id = ? AND deleted = 0 AND substr(started_at, 1, 10) "
@@ -538,8 +552,13 @@ def period_report(store: Store, start: date, end: date, site_id: str | None = No
                                       start.isoformat(), end.isoformat()),
             record_table=_record_table(program, site, pairs),
             leak_table=leak_table(annual.leak_fields if annual else DEFAULT_LEAK_FIELDS, mine, tagged),
-            facility_id=site.get("facility_id") or "", coordinates=dict(site_identifiers(site))[
-                "Latitude, longitude (decimal degrees)"]))
+            facility_id=site.get("facility_id") or "", coordinates=coordinates,
+            site_fields=site_pairs(  # the facility id and coordinates identify the site whatever the program lists
+                [*(n for n in ("facility_id", "coordinates") if n not in site_listed.value), *site_listed.value],
+                site, start.isoformat(), end.isoformat(), coordinates),
+            site_citation=f"{site_listed.citation} ({site_listed.status})" + "".join(
+                f". Not recorded: {SITE_LABELS[n].lower()}: {STORE_LACKS[n]}" for n in site_listed.value
+                if n in STORE_LACKS)))
     made = store.now_text()
     zone = sites[0]["timezone"] if sites and len({x["timezone"] for x in sites}) == 1 else "UTC"
     return PeriodReport(start, end, convention, summaries, CAUTIONS + tag_cautions(store, {s["id"] for s in sites}),

@@ -28,10 +28,10 @@ from pypdf import PdfReader
 
 from fieldapp import catalog
 from fieldapp.core.fields import ValidationError
-from fieldapp.core.program import REPORT_LEAK_FIELDS, REPORT_SURVEY_FIELDS
+from fieldapp.core.program import REPORT_LEAK_FIELDS, REPORT_SITE_FIELDS, REPORT_SURVEY_FIELDS
 from fieldapp.store import ops
 from sync.pdf_period import render as render_period
-from sync.report_fields import LEAK_COLUMNS, NOT_RECORDED, STORE_LACKS, SURVEY_COLUMNS
+from sync.report_fields import LEAK_COLUMNS, NOT_RECORDED, SITE_LABELS, STORE_LACKS, SURVEY_COLUMNS
 from sync.report_model import period_report
 
 TODAY = date(2026, 12, 1)
@@ -44,14 +44,16 @@ def flat(data: bytes) -> str:
 
 def sections(text: str, sites: list[str]) -> dict[str, str]:
     """The text of each site's section: from its heading to the next site's heading (or the cautions)."""
-    marks = [text.index(f"{name} Facility / permit id") for name in sites] + [text.rindex("Cautions")]
+    heads = "|".join(re.escape(label.split()[0]) for label in SITE_LABELS.values())  # the site items follow it
+    marks = [re.search(rf"{re.escape(name)} (?:{heads})", text).start() for name in sites] + [text.rindex("Cautions")]
     return {name: text[marks[i]:marks[i + 1]] for i, name in enumerate(sites)}
 
 
 def test_every_report_field_has_a_label_and_a_width():
     assert set(SURVEY_COLUMNS) == set(REPORT_SURVEY_FIELDS)
     assert set(LEAK_COLUMNS) == set(REPORT_LEAK_FIELDS)
-    assert set(STORE_LACKS) <= set(REPORT_SURVEY_FIELDS) | set(REPORT_LEAK_FIELDS)
+    assert set(SITE_LABELS) == set(REPORT_SITE_FIELDS)
+    assert set(STORE_LACKS) <= set(REPORT_SURVEY_FIELDS) | set(REPORT_LEAK_FIELDS) | set(REPORT_SITE_FIELDS)
 
 
 @pytest.mark.parametrize("program_id, paragraph", [("us-nsps-oooo-a", "60.5420a(b)(7)(ii)(A)-(G)"),
@@ -114,8 +116,12 @@ def _with_annual_report(block: str) -> str:
     ('[annual_report]\nsurvey_fields = { value = ["survey_date"], citation = "c", status = "company" }',
      "annual_report.leak_fields", ["is required"]),
     ('[annual_report]\nsurvey_fields = { value = ["tag"], citation = "c", status = "company" }\n'
-     'leak_fields = { value = ["tag", "tag"], citation = "c", status = "company" }\nsite_fields = 1',
-     "annual_report.site_fields", ["is not allowed; allowed: survey_fields, leak_fields"]),
+     'leak_fields = { value = ["tag", "tag"], citation = "c", status = "company" }\ncolour_fields = 1',
+     "annual_report.colour_fields", ["is not allowed; allowed: survey_fields, leak_fields, site_fields"]),
+    ('[annual_report]\nsurvey_fields = { value = ["survey_date"], citation = "c", status = "company" }\n'
+     'leak_fields = { value = ["tag"], citation = "c", status = "company" }\n'
+     'site_fields = { value = ["site_kind", "mascot"], citation = "c", status = "company" }',
+     "annual_report.site_fields.value[1]", ["'mascot' is not allowed", "allowed: company, site_name"]),
 ])
 def test_a_bad_annual_report_list_is_refused_naming_file_key_and_allowed(block, key, words):
     with pytest.raises(ValidationError) as caught:
@@ -214,5 +220,40 @@ def test_sites_under_different_programs_get_their_own_columns_and_not_recorded(s
 def test_the_template_documents_every_report_field():
     """The company template's comment names every field a program may list (DEVELOPERS.md: it documents every key)."""
     comment = " ".join(line for line in TEMPLATE.read_text(encoding="utf-8").splitlines() if line.startswith("#"))
-    for name in REPORT_SURVEY_FIELDS + REPORT_LEAK_FIELDS:
+    for name in REPORT_SITE_FIELDS + REPORT_SURVEY_FIELDS + REPORT_LEAK_FIELDS:
         assert re.search(rf"\b{name}\b", comment), name
+
+
+
+@pytest.mark.parametrize("program_id, fields, paragraph", [
+    # 40 CFR 60.5420a(b)(7)(i): "(A) Designation of the type of site ... (B) ... the date of the startup of
+    # production ... (C) [Reserved] (D) ... the date of the change to status as a wellhead only well site. (E) ...
+    # the date that the first piece of major production and processing equipment is added back" (eCFR 9/11/2026)
+    ("us-nsps-oooo-a", ("site_kind", "startup_date", "wellhead_only_since", "equipment_added_back_on"),
+     "60.5420a(b)(7)(i)"),
+    # 40 CFR 60.5420b(b)(1)(i), (iii) (company name, facility site name, address or location with coordinates "to
+    # an accuracy and precision of five (5) decimals of a degree", reporting period) and (b)(9)(i)(A)-(F) (type of
+    # site, startup date, "what type of well site it is", wellhead-only date, equipment added back, well closure
+    # dates) (eCFR 9/10/2026)
+    ("us-nsps-oooo-b", ("company", "site_name", "facility_id", "location", "coordinates", "reporting_period",
+                        "site_kind", "startup_date", "well_site_type", "wellhead_only_since",
+                        "equipment_added_back_on", "well_closure_dates"), "60.5420b(b)(9)(i)(A)-(F)"),
+])
+def test_federal_programs_list_the_site_items_of_the_annual_report(program_id, fields, paragraph):
+    site = catalog.program(program_id).annual_report.site_fields
+    assert site.value == fields and paragraph in site.citation and site.status == "text"
+
+
+def test_period_summary_draws_each_sites_listed_site_items(demo_store):
+    report = period_report(demo_store, date(2026, 1, 1), TODAY)
+    b_site = next(s for s in report.sites if s.program_id == "us-nsps-oooo-b")
+    labels = dict(b_site.site_fields)
+    # (b)(9)(i)(F): plumebook keeps no well closure dates, so the report says so rather than leaving it out
+    assert labels["Well closure dates"] == "not recorded" and "does not keep well closure dates" in b_site.site_citation
+    assert labels["Reporting period"] == f"2026-01-01 to {TODAY.isoformat()}"
+    assert labels["Latitude, longitude (decimal degrees, 5 places)"].count(".") == 2
+    text = " ".join(p.extract_text() for p in PdfReader(io.BytesIO(render_period(report))).pages)
+    text = " ".join(text.split())
+    for site in report.sites:
+        for label, value in site.site_fields:
+            assert " ".join(label.split()[:2]) in text and value.split()[0] in text, (site.site, label)

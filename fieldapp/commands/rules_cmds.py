@@ -122,8 +122,11 @@ def _print_program(program) -> None:
         r = program.survey_records
         print(f"survey records: {', '.join(r.value)}  ({r.citation}; {r.status})")
     if program.annual_report:
-        for what, cited in (("per survey", program.annual_report.survey_fields),
+        for what, cited in (("per site", program.annual_report.site_fields),
+                            ("per survey", program.annual_report.survey_fields),
                             ("per leak", program.annual_report.leak_fields)):
+            if cited is None:
+                continue
             print(f"annual report fields {what}: {', '.join(cited.value)}  ({cited.citation}; {cited.status})")
     else:
         print("annual report fields: none listed (reports use plumebook's default columns)")

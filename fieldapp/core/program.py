@@ -32,6 +32,9 @@ SURVEY_RECORD_FIELDS = ("started_at", "ended_at", "operator", "qualification", "
 REPORT_SURVEY_FIELDS = ("survey_date", "method", "instrument", "operator", "deviations", "leak_count",
                         "leaks_by_type", "not_repaired_by_type", "on_delay_by_type", "planned_shutdowns",
                         "compressor_modes", "calibration_records")
+REPORT_SITE_FIELDS = ("company", "site_name", "facility_id", "location", "coordinates", "reporting_period",
+                      "site_kind", "startup_date", "well_site_type", "wellhead_only_since", "equipment_added_back_on",
+                      "well_closure_dates")
 REPORT_LEAK_FIELDS = ("tag", "component", "location", "detected_on", "instrument_reading",
                       "photo_or_tag", "first_attempt", "repair", "resurvey", "repaired_as_required", "delay",
                       "parts", "parts_expected_on", "planned_shutdown", "state")
@@ -160,6 +163,7 @@ class AnnualReport:
 
     survey_fields: CitedValue
     leak_fields: CitedValue
+    site_fields: CitedValue | None = None  # the site items (type of site, startup date, ...), when the file lists them
 
 
 @dataclass(frozen=True, slots=True)
@@ -411,11 +415,12 @@ def _annual_report(r: _Reader, data: Mapping) -> AnnualReport | None:
     if sub is None:
         return None
     for key in sub:
-        if key not in ("survey_fields", "leak_fields"):
-            r.fail(f"annual_report.{key}", "is not allowed; allowed: survey_fields, leak_fields")
+        if key not in ("survey_fields", "leak_fields", "site_fields"):
+            r.fail(f"annual_report.{key}", "is not allowed; allowed: survey_fields, leak_fields, site_fields")
     survey = _field_list(r, sub, "survey_fields", "annual_report.", REPORT_SURVEY_FIELDS)
     leak = _field_list(r, sub, "leak_fields", "annual_report.", REPORT_LEAK_FIELDS)
-    return AnnualReport(survey, leak) if survey and leak else None
+    site = _field_list(r, sub, "site_fields", "annual_report.", REPORT_SITE_FIELDS) if "site_fields" in sub else None
+    return AnnualReport(survey, leak, site) if survey and leak else None
 
 
 def _table_list(r: _Reader, data: Mapping, key: str, read) -> list:
@@ -546,7 +551,8 @@ def cited_values(program: Program) -> list[dict[str, Any]]:
         add("survey_records.required", list(program.survey_records.value), program.survey_records.citation,
             program.survey_records.status)
     if program.annual_report:
-        for key in ("survey_fields", "leak_fields"):
+        for key in ("site_fields", "survey_fields", "leak_fields"):
             cited = getattr(program.annual_report, key)
-            add(f"annual_report.{key}", list(cited.value), cited.citation, cited.status)
+            if cited is not None:
+                add(f"annual_report.{key}", list(cited.value), cited.citation, cited.status)
     return out
