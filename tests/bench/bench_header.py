@@ -40,7 +40,7 @@ def main(columns: int = 100_000) -> None:
     with tempfile.TemporaryDirectory() as tmp:
         folder = Path(tmp)
         store = Store(folder / "s.db")
-        site = ops.add_site(store, {"name": "Bench", "kind": "gas_plant", "program_id": "us-nsps-oooo-a",
+        site = ops.add_site(store, {"name": "Bench", "kind": "compressor_station", "program_id": "us-nsps-oooo-a",
                                     "timezone": "UTC", "methane_mole_fraction": 0.9})
         for repeated in (False, True):
             text = header_text(columns, repeated)

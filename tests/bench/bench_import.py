@@ -54,7 +54,7 @@ def raw(path: Path, data: list[tuple]) -> float:
 
 def store_path(folder: Path, csv_path: Path) -> float:
     store = Store(folder / "store.db")
-    site = ops.add_site(store, {"name": "Bench", "kind": "gas_plant", "program_id": "us-nsps-oooo-a",
+    site = ops.add_site(store, {"name": "Bench", "kind": "compressor_station", "program_id": "us-nsps-oooo-a",
                                 "timezone": "UTC", "methane_mole_fraction": 0.9})
     start = time.perf_counter()
     import_components(store, csv_path, site.id)
