@@ -62,7 +62,7 @@ class LeakReport:
     notes: list[str] = field(default_factory=list)
 
 
-def standing(d, overdue: set[str], as_of: date, state: str) -> str:
+def standing(d, overdue: set[str], state: str) -> str:
     """A deadline's standing in words: met, done late, done, overdue, due by DATE, no date yet, or not counted."""
     if d.done_on is not None:
         if d.due is None:
@@ -110,7 +110,7 @@ def leak_report(store: Store, leak_id: str, as_of: date | None = None,
     facts = facts_for([row], actions)[leak_id]
     overdue = set(line.overdue.split(";")) - {""}
     dues = [{"deadline": words(d.kind), "due": d.due.isoformat() if d.due else "-",
-             "done": d.done_on.isoformat() if d.done_on else "-", "standing": standing(d, overdue, judged, line.state),
+             "done": d.done_on.isoformat() if d.done_on else "-", "standing": standing(d, overdue, line.state),
              "rule": d.rule, "citation": d.citation, "status": d.status}
             for d in deadlines(program, facts, catalog.holidays_for(program))]
     comp_id = row["component_id"]

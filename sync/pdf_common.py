@@ -78,10 +78,10 @@ class Grid(Table):
 CELL_PAD = 6  # reportlab's default left and right cell padding, points
 
 
-def para(text: str, style: str = "body") -> Paragraph:
-    """A paragraph with the text escaped for reportlab's mini-markup."""
+def para(text: str, style: str | ParagraphStyle = "body") -> Paragraph:
+    """A paragraph with the text escaped for reportlab's mini-markup; ``style`` a name in STYLES or a style."""
     safe = str(text).replace("&", "&amp;").replace("<", "&lt;").replace(">", "&gt;")
-    return _Para(safe, STYLES[style])
+    return _Para(safe, STYLES[style] if isinstance(style, str) else style)
 
 
 def _cell(text: str, width: float):

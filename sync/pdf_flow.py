@@ -8,10 +8,10 @@ otherwise starts a new page; the table then splits across pages with its header 
 from __future__ import annotations
 
 from reportlab.lib.styles import ParagraphStyle
-from reportlab.platypus import Flowable, Paragraph, Table, TableStyle
+from reportlab.platypus import Flowable, Table, TableStyle
 from reportlab.platypus.doctemplate import FrameBreak
 
-from sync.pdf_common import RULE, SHADE, STYLES, Grid
+from sync.pdf_common import RULE, SHADE, STYLES, Grid, para
 
 # a table wider than this many columns is set in smaller type so its words fit their columns
 NARROW_AT = 10
@@ -20,11 +20,6 @@ CELL = ParagraphStyle("report_cell", parent=STYLES["cell"], embeddedHyphenation=
 NARROW_CELL = ParagraphStyle("narrow_cell", parent=CELL, fontSize=7, leading=8.6)
 NARROW_HEAD = ParagraphStyle("narrow_head", parent=NARROW_CELL, fontName="Helvetica-Bold")
 HEAD = ParagraphStyle("head_cell", parent=CELL, fontName="Helvetica-Bold")
-
-
-def _cell(text: str, style: ParagraphStyle) -> Paragraph:
-    safe = str(text).replace("&", "&amp;").replace("<", "&lt;").replace(">", "&gt;")
-    return Paragraph(safe, style)
 
 
 def column_table(columns: list[str], weights: list[float], rows: list[list[str]], width: float,
@@ -38,10 +33,10 @@ def column_table(columns: list[str], weights: list[float], rows: list[list[str]]
     body_style, head_style = (NARROW_CELL, NARROW_HEAD) if narrow else (CELL, HEAD)
     total = sum(weights)
     body = rows or [[empty] + [""] * (len(columns) - 1)]
-    data = [[_cell(c, head_style) for c in columns]] + [[_cell(c, body_style) for c in row] for row in body]
+    data = [[para(c, head_style) for c in columns]] + [[para(c, body_style) for c in row] for row in body]
     last = len(data) - 1
     if notes:
-        data.append([[_cell(n, STYLES["small"]) for n in notes]] + [""] * (len(columns) - 1))
+        data.append([[para(n, STYLES["small"]) for n in notes]] + [""] * (len(columns) - 1))
     table = Grid(data, colWidths=[width * w / total for w in weights], repeatRows=1)
     pad = 3 if narrow else 6
     style = [("GRID", (0, 0), (-1, last), 0.3, RULE), ("VALIGN", (0, 0), (-1, -1), "TOP"),

@@ -147,7 +147,7 @@ def _correlation(leak: LeakInput, book: FactorBook, eq) -> Estimate:
     notes: list[str] = _first_notes(leak)
     if leak.pegged_at is not None and leak.pegged_at not in PEGGED_LIMITS:
         raise EstimateError("pegged_at", "allowed: 10000, 100000 (ppmv)")
-    table = book.set_info["epa-453-correlation"].label.split(",")[0]
+    table = book.table_name("epa-453-correlation")
     if ppm == 0:
         basis, kg_toc, terms = "default_zero", eq.default_zero, "SV = 0 ppmv"
         row = f"{table}: {epa_class}, default-zero rate = {kg_toc:g} kg TOC/h"
@@ -237,9 +237,8 @@ def _leaker(leak: LeakInput, book: FactorBook, factor_set: str | None) -> Estima
             scf, kg = None, _from_toc(factor.value, leak, notes)
         else:
             scf, kg = None, factor.value
-        table = book.set_info[factor.factor_set].label.split(",")[0] if factor.factor_set in book.set_info \
-            else factor.factor_set
-        return Estimate(kg, scf, "leaker_factor", factor.factor_set, factor.in_words(table), factor.citation,
+        row = factor.in_words(book.table_name(factor.factor_set))
+        return Estimate(kg, scf, "leaker_factor", factor.factor_set, row, factor.citation,
                         factor.status, factor.verified, _composition(leak), tuple(notes), segment.value, why,
                         "/".join(k for k in factor.key if k), factor.value, factor.unit)
     if order:
@@ -330,8 +329,7 @@ def inventory_estimate(counts: dict[tuple[ComponentType, Service], int], book: F
             missing.append(f"{count} x {ctype.value} in {service.value} service")
             continue
         total_scf += count * factor.value
-        rows.append((ctype.value, service.value, count, factor.in_words(book.set_info["w-1a"].label.split(",")[0]
-                                                                        if "w-1a" in book.set_info else "w-1a")))
+        rows.append((ctype.value, service.value, count, factor.in_words(book.table_name(factor.factor_set))))
     notes: list[str] = ["population factors estimate an inventory, not the rate of any one leak"]
     kg = _from_whole_gas(total_scf, LeakInput(ComponentType.OTHER, Service.GAS, methane_mole_fraction), book, notes)
     return InventoryEstimate(kg, total_scf, tuple(rows), tuple(missing), tuple(notes))

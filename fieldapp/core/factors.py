@@ -155,6 +155,12 @@ class FactorBook:
                 return factor
         return None
 
+    def table_name(self, factor_set: str) -> str:
+        """The short published name of a factor set's table ('EPA-453/R-95-017 Table 2-8'): its label up to the
+        first comma, or the set's own name when it declares no label."""
+        info = self.set_info.get(factor_set)
+        return info.label.split(",")[0] if info and info.label else factor_set
+
     def serves(self, factor_set: str, segment: IndustrySegment) -> bool:
         """True when a factor set declares that it serves a segment."""
         info = self.set_info.get(factor_set)
